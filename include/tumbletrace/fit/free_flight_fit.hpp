@@ -1,0 +1,112 @@
+// The joint least-squares fit of the free-flight model to every marker sighting.
+//
+// Unknowns: r0, v0 (CM at t0, world), q0 (orientation at t0 on Ceres' quaternion
+// manifold), w (angular velocity, world), c (CM in the body frame) and, when asked, g.
+// Residuals are in pixels. The fit runs in two passes: a robust pass (Huber loss of scale
+// `robust_loss_scale_px`) from the closed-form initialisation, then sightings whose
+// residual exceeds `outlier_threshold` robust standard deviations are set aside as
+// outliers and the problem is solved again by plain least squares, so that the covariance
+// is that of the inliers' Gaussian model.
+#pragma once
+
+#include <Eigen/Core>
+#include <Eigen/Geometry>
+#include <optional>
+#include <string>
+#include <vector>
+
+#include "tumbletrace/fit/observations.hpp"
+#include "tumbletrace/model/body.hpp"
+#include "tumbletrace/model/camera.hpp"
+
+namespace tumbletrace {
+
+enum class GravityMode {
+  kFixed,          // g from the session, held fixed
+  kEstimate,       // all three components estimated (a check of scale and timing)
+};
+
+struct FitOptions {
+  GravityMode gravity_mode = GravityMode::kFixed;
+  Eigen::Vector3d gravity_world_mps2 = {0, 0, -9.80665};  // the fixed value, or the start
+  double robust_loss_scale_px = 1.0;   // Huber scale of the first pass, px
+  double outlier_threshold_sigma = 4.29;  // chi-square(2 dof) 0.9999 quantile, sqrt
+  int min_markers_per_frame = 4;       // for the per-frame poses of the initialisation
+  int max_iterations = 200;
+  // A CM direction is reported unobservable when its information is below this fraction
+  // of the largest, or when its 1-sigma exceeds the size of the marker layout.
+  double unobservable_relative_information = 1e-9;
+  std::optional<int> first_frame;  // the window to fit (default: all frames given)
+  std::optional<int> last_frame;
+
+  // Empty when valid, otherwise the reason.
+  std::string Validate() const;
+};
+
+// Parameter values at t0 (the fitted state).
+struct FlightParameters {
+  double t0_s = 0.0;
+  Eigen::Vector3d r0_world_m = Eigen::Vector3d::Zero();
+  Eigen::Vector3d v0_world_mps = Eigen::Vector3d::Zero();
+  Eigen::Vector3d g_world_mps2 = Eigen::Vector3d::Zero();
+  Eigen::Vector4d q0_wxyz = {1, 0, 0, 0};  // body to world
+  Eigen::Vector3d omega_world_radps = Eigen::Vector3d::Zero();
+  Eigen::Vector3d cm_body_m = Eigen::Vector3d::Zero();
+
+  Eigen::Vector3d PositionAt(double t_s) const;
+  Eigen::Vector3d VelocityAt(double t_s) const;
+  Eigen::Matrix3d WorldFromBodyAt(double t_s) const;
+  Eigen::Vector3d OmegaWorldAt(double t_s) const;
+  // Model prediction of a marker's pixel; false when behind the camera.
+  bool PredictPixel(const Camera& camera, const Eigen::Vector3d& marker_body_m, double t_s,
+                    Eigen::Vector2d* pixel) const;
+};
+
+// Order of the tangent-space covariance: r0 (3), v0 (3), g (3), q0 (3), w (3), c (3).
+enum CovarianceBlock { kR0 = 0, kV0 = 3, kG = 6, kQ0 = 9, kOmega = 12, kCm = 15 };
+constexpr int kTangentSize = 18;
+
+struct ResidualRecord {
+  int frame = 0;
+  double time_s = 0.0;
+  int marker_id = 0;
+  Eigen::Vector2d observed_px;
+  Eigen::Vector2d residual_px;  // predicted - observed
+  bool outlier = false;
+};
+
+struct CmObservability {
+  std::vector<Eigen::Vector3d> unobservable_body;  // unit vectors
+  Eigen::Matrix3d covariance_m2;  // of the observable part (projected), m^2
+  Eigen::Vector3d information_eigenvalues;  // of c's Schur complement, 1/m^2 (noise-scaled)
+  Eigen::Matrix3d information_eigenvectors;  // columns, body frame
+};
+
+struct FitResult {
+  FlightParameters parameters;
+  bool converged = false;
+  std::string termination;      // Ceres' message
+  int iterations = 0;
+  int observations = 0;         // sightings (each two residuals) in the window
+  int outliers = 0;
+  int frames_used = 0;
+  int first_frame = 0;
+  int last_frame = 0;
+  double rms_px = 0.0;          // rms of the inliers' residual vectors' components, px
+  double sigma_px = 0.0;        // estimated per-coordinate noise, px (dof-corrected)
+  int degrees_of_freedom = 0;
+  // Tangent-space covariance scaled by sigma_px^2 (order of CovarianceBlock). Entries
+  // involving unobservable directions are meaningless and must not be reported.
+  Eigen::Matrix<double, kTangentSize, kTangentSize> covariance;
+  CmObservability cm;
+  std::vector<ResidualRecord> residuals;
+  std::vector<std::string> warnings;
+  double solve_seconds = 0.0;
+};
+
+// Fits the model. Throws DataError when the sightings cannot support a fit (too few frames
+// or markers for the initialisation), InputError for options or markers not in the body.
+FitResult FitFreeFlight(const std::vector<FrameSightings>& frames, const Body& body,
+                        const Camera& camera, const FitOptions& options);
+
+}  // namespace tumbletrace

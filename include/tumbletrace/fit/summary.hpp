@@ -1,0 +1,82 @@
+// The quantities a user reads, derived from a fit with their uncertainty: the CM in the
+// body frame and from the named reference points, the launch state at the first frame of
+// the window, the spin. Uncertainty is propagated from the tangent-space covariance by
+// first-order (delta-method) propagation, Sigma_f = J Sigma J^T with J by central
+// differences. Values the data cannot determine are empty optionals, never numbers.
+#pragma once
+
+#include <Eigen/Core>
+#include <array>
+#include <map>
+#include <optional>
+#include <string>
+#include <vector>
+
+#include "tumbletrace/fit/free_flight_fit.hpp"
+#include "tumbletrace/model/body.hpp"
+
+namespace tumbletrace {
+
+using MaybeVector3 = std::array<std::optional<double>, 3>;
+
+// An axis counts as undetermined when an unobservable direction has a component above
+// this along it (about 1.1 degrees). Below it the axis's value is that of the point of the
+// CM line nearest the body origin, which stays within this fraction of the unknown offset
+// along the line: the fitted spin axis never lies exactly along a body axis, only within
+// the noise of the fit.
+constexpr double kUndeterminedAxisComponent = 0.02;
+bool AxisUndetermined(const Eigen::Vector3d& axis, const std::vector<Eigen::Vector3d>& directions);
+
+// Two-sided 95 % interval half-width in standard deviations (normal, large dof).
+constexpr double kZ95 = 1.959963984540054;
+
+struct ReferenceDistance {
+  MaybeVector3 vector_m;                  // CM - reference point, body frame
+  std::optional<double> distance_m;
+  std::optional<double> sigma_distance_m;
+};
+
+struct FlightSummary {
+  // CM in the body frame.
+  MaybeVector3 cm_body_m;
+  MaybeVector3 cm_sigma_m;
+  std::array<std::array<std::optional<double>, 3>, 3> cm_covariance_m2;
+  std::vector<Eigen::Vector3d> cm_unobservable_body;
+  // The CM lies on cm_line_point_body_m + s u (u the unobservable directions): the point
+  // of that set nearest the body origin. Equal to the CM when all is observable.
+  Eigen::Vector3d cm_line_point_body_m = Eigen::Vector3d::Zero();
+  std::map<std::string, ReferenceDistance> cm_from_references;
+  std::optional<Eigen::Vector3d> design_cm_body_m;  // from the parts list, when given
+  std::optional<double> design_mass_kg;
+
+  // Launch: the CM state at the first frame of the window.
+  int launch_frame = 0;
+  double launch_time_s = 0.0;
+  MaybeVector3 launch_position_m;  // null along world directions the data leave open
+  Eigen::Vector3d launch_velocity_mps = Eigen::Vector3d::Zero();
+  Eigen::Vector3d launch_sigma_velocity_mps = Eigen::Vector3d::Zero();
+  double launch_speed_mps = 0.0;
+  double launch_sigma_speed_mps = 0.0;
+  double launch_angle_deg = 0.0;  // above the horizontal (the plane normal to gravity)
+  double launch_sigma_angle_deg = 0.0;
+
+  // Spin at the launch time.
+  Eigen::Vector3d omega_world_radps = Eigen::Vector3d::Zero();
+  Eigen::Vector3d omega_body_radps = Eigen::Vector3d::Zero();
+  Eigen::Vector3d sigma_omega_world_radps = Eigen::Vector3d::Zero();
+  double rate_rev_per_s = 0.0;
+  double sigma_rate_rev_per_s = 0.0;
+
+  Eigen::Vector3d gravity_world_mps2 = Eigen::Vector3d::Zero();
+  std::optional<Eigen::Vector3d> sigma_gravity_mps2;  // when estimated
+};
+
+// Moves the fitted parameters to the representative of the CM line nearest the body
+// origin (changing no prediction) and derives the summary.
+FlightSummary Summarise(FitResult* fit, const Body& body);
+
+// Tangent-space perturbation of the parameters, in CovarianceBlock order (q0 by Ceres'
+// QuaternionManifold: q <- [cos|d|, sin|d| d/|d|] (x) q).
+FlightParameters Perturb(const FlightParameters& p, const Eigen::Matrix<double, kTangentSize, 1>& d);
+
+}  // namespace tumbletrace

@@ -1,0 +1,62 @@
+// session.yaml: one throw filmed by one camera (../shared/CONTRACT.md).
+#pragma once
+
+#include <Eigen/Core>
+#include <filesystem>
+#include <optional>
+#include <string>
+
+#include "tumbletrace/model/body.hpp"
+#include "tumbletrace/model/camera.hpp"
+
+namespace tumbletrace {
+
+// Gravity as the session gives it: a world vector, a magnitude (direction estimated by
+// the fit), or a place (normal gravity, WGS 84, pointing along world -z).
+struct GravitySpec {
+  std::optional<Eigen::Vector3d> vector_mps2;
+  std::optional<double> magnitude_mps2;
+  std::optional<double> latitude_deg;
+  std::optional<double> elevation_m;
+
+  // The world gravity vector when it is fixed by the spec (vector or place).
+  std::optional<Eigen::Vector3d> WorldVector() const;
+  double Magnitude() const;
+};
+
+// WGS 84 normal gravity with the free-air height correction (NIMA TR8350.2, 3rd ed.,
+// eq. 4-1 and 4-3), m/s^2.
+double NormalGravityWgs84(double latitude_deg, double elevation_m);
+
+enum class MarkerKind { kBrightDots, kDarkDots };
+
+struct MarkerDetectionSettings {
+  MarkerKind kind = MarkerKind::kBrightDots;
+  std::optional<double> threshold;  // absolute intensity threshold above background
+  double min_area_px = 3.0;
+  double max_area_px = 2000.0;
+};
+
+struct Session {
+  std::filesystem::path file;          // the session file itself
+  std::filesystem::path clip;          // resolved relative to the session file
+  double capture_fps = 0.0;
+  std::filesystem::path camera_file;
+  std::filesystem::path body_file;
+  Camera camera;
+  Body body;
+  GravitySpec gravity;
+  MarkerDetectionSettings markers;
+  std::optional<int> first_frame;      // optional frame range of the clip to use
+  std::optional<int> last_frame;
+
+  double FrameTime(int frame) const { return frame / capture_fps; }
+};
+
+// Reads the session and the camera and body files it names (paths relative to the
+// session file). Throws InputError naming file and key.
+Session ReadSessionYaml(const std::filesystem::path& path);
+// Writes session.yaml with the given file names (relative paths kept as given).
+void WriteSessionYaml(const Session& session, const std::filesystem::path& path);
+
+}  // namespace tumbletrace

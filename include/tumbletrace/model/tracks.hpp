@@ -1,0 +1,26 @@
+// tracks.csv: one row per detection in a track (../shared/CONTRACT.md)
+//   frame,time_s,track,marker,x_px,y_px,quality
+// `marker` is the body marker id, empty while unidentified.
+#pragma once
+
+#include <filesystem>
+#include <optional>
+#include <vector>
+
+namespace tumbletrace {
+
+struct TrackPoint {
+  int frame = 0;
+  double time_s = 0.0;
+  int track = 0;
+  std::optional<int> marker;
+  double x_px = 0.0;
+  double y_px = 0.0;
+  double quality = 1.0;  // 0..1
+};
+
+// Throws InputError naming the file, the line and the column on malformed rows.
+std::vector<TrackPoint> ReadTracksCsv(const std::filesystem::path& path);
+void WriteTracksCsv(const std::vector<TrackPoint>& points, const std::filesystem::path& path);
+
+}  // namespace tumbletrace

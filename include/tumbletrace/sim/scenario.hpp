@@ -1,0 +1,66 @@
+// A simulation scenario: a body with parts and markers, a camera, a launch state, a spin,
+// the frame rate and count, the exposure and the noise. Read from YAML (strict, like every
+// input file); the body and camera are files of the usual formats, named relative to the
+// scenario file.
+//
+//   body: body.yaml              # must carry a parts list (mass, CM and inertia)
+//   camera: camera.yaml          # must carry world_to_camera
+//   capture_fps: 1000
+//   frames: 250
+//   exposure_s: 0.0002           # shutter time, centred on each frame time (0: no blur)
+//   gravity_mps2: [0, 0, -9.80665]
+//   launch:                      # the CM's state at frame 0 (t = 0)
+//     position_m: [0, 0, 1.2]
+//     velocity_mps: [3.5, 0, 2.0]
+//     orientation: {axis: [0, 0, 1], angle_deg: 0}   # body to world
+//   spin: {axis_body: principal-3, rate_rev_per_s: 6}   # or axis_body: [x, y, z];
+//                                                       # or omega_body_radps: [x, y, z]
+//   noise: {tracks_sigma_px: 0.2, image_sigma_levels: 2.0, seed: 1}
+//   video: {write: true, playback_fps: 30, exposure_samples: 8, supersampling: 4,
+//           background_level: 40, body_level: 70, dot_level: 230}
+#pragma once
+
+#include <Eigen/Core>
+#include <Eigen/Geometry>
+#include <cstdint>
+#include <filesystem>
+
+#include "tumbletrace/model/body.hpp"
+#include "tumbletrace/model/camera.hpp"
+
+namespace tumbletrace {
+
+struct VideoSettings {
+  bool write = true;
+  double playback_fps = 30.0;   // the rate written into clip.mp4 (not the capture rate)
+  int exposure_samples = 8;     // instants averaged over the exposure when exposure_s > 0
+  int supersampling = 4;
+  double background_level = 40.0;
+  double body_level = 70.0;
+  double dot_level = 230.0;
+};
+
+struct Scenario {
+  std::filesystem::path file;
+  std::filesystem::path body_file;
+  std::filesystem::path camera_file;
+  Body body;
+  Camera camera;
+  double capture_fps = 1000.0;
+  int frames = 250;
+  double exposure_s = 0.0;
+  Eigen::Vector3d gravity_world_mps2 = {0, 0, -9.80665};
+  Eigen::Vector3d launch_cm_world_m = Eigen::Vector3d::Zero();
+  Eigen::Vector3d launch_velocity_world_mps = Eigen::Vector3d::Zero();
+  Eigen::Quaterniond launch_world_from_body = Eigen::Quaterniond::Identity();
+  Eigen::Vector3d launch_omega_body_radps = Eigen::Vector3d::Zero();
+  double tracks_sigma_px = 0.0;      // Gaussian noise added to tracks.csv, px per axis
+  double image_sigma_levels = 2.0;   // sensor noise of the rendered frames, grey levels
+  std::uint64_t seed = 1;
+  VideoSettings video;
+};
+
+// Throws InputError naming the file and key.
+Scenario ReadScenarioYaml(const std::filesystem::path& path);
+
+}  // namespace tumbletrace

@@ -1,0 +1,50 @@
+// The simulator: a scenario becomes the truth (poses and exact marker pixels per frame),
+// noisy tracks, and a rendered clip with the session, camera and body files that go with
+// it (`tumbletrace simulate`).
+#pragma once
+
+#include <filesystem>
+#include <functional>
+#include <vector>
+
+#include "tumbletrace/model/mass_properties.hpp"
+#include "tumbletrace/model/tracks.hpp"
+#include "tumbletrace/sim/motion.hpp"
+#include "tumbletrace/sim/scenario.hpp"
+
+namespace tumbletrace {
+
+struct MarkerTruth {
+  int id = 0;
+  Eigen::Vector2d pixel = Eigen::Vector2d::Zero();  // exact projection at the frame time
+  bool visible = false;  // in the image and facing the camera
+};
+
+struct FrameTruth {
+  int frame = 0;
+  double time_s = 0.0;
+  RigidState state;
+  std::vector<MarkerTruth> markers;
+};
+
+struct Simulation {
+  Scenario scenario;
+  MassProperties mass;  // from the parts list: the true CM and inertia
+  std::vector<FrameTruth> frames;
+  std::vector<TrackPoint> tracks;  // exact + Gaussian noise, identified
+};
+
+// Integrates the motion and projects the markers; no files. Throws InputError when the
+// body has no parts list (the truth needs a CM and an inertia tensor).
+Simulation SimulateFlight(const Scenario& scenario);
+
+// The state of the body at any time t_s (>= 0) of the simulated flight.
+RigidState StateAt(const Simulation& sim, double t_s);
+
+// Writes clip.mp4 (when the scenario asks for video), session.yaml, camera.yaml,
+// body.yaml, truth.json and tracks.csv into `dir` (created when missing). `progress`
+// (may be empty) is called with the number of frames rendered so far.
+void WriteSimulation(const Simulation& sim, const std::filesystem::path& dir,
+                     const std::function<void(int done, int total)>& progress);
+
+}  // namespace tumbletrace

@@ -1,0 +1,33 @@
+// The commands of `tumbletrace`, each a thin layer over library calls.
+#pragma once
+
+#include <filesystem>
+#include <optional>
+#include <string>
+
+namespace tumbletrace::cli {
+
+struct CommonOptions {
+  bool quiet = false;
+  std::string command_line;
+};
+
+struct SimulateOptions {
+  std::filesystem::path scenario;
+  std::filesystem::path out_dir;
+  bool no_video = false;
+};
+int RunSimulate(const SimulateOptions& options, const CommonOptions& common);
+
+struct FitCommandOptions {
+  std::filesystem::path session;
+  std::filesystem::path tracks;
+  std::filesystem::path out_dir;
+  bool estimate_gravity = false;
+  double robust_scale_px = 1.0;
+  std::optional<int> first_frame;
+  std::optional<int> last_frame;
+};
+int RunFit(const FitCommandOptions& options, const CommonOptions& common);
+
+}  // namespace tumbletrace::cli

@@ -1,0 +1,79 @@
+// tumbletrace: the free flight of a thrown rigid body from high-speed video of markers.
+#include <CLI/CLI.hpp>
+#include <fmt/format.h>
+
+#include <iostream>
+
+#include "commands.hpp"
+#include "tumbletrace/core/error.hpp"
+
+namespace {
+
+constexpr const char* kDescription =
+    "tumbletrace reconstructs the free flight of a thrown rigid body from high-speed video "
+    "of markers on it: the centre of mass (CM) in the body frame with its uncertainty, the "
+    "launch velocity and the spin.\n\n"
+    "Exit codes: 0 done; 1 internal error; 2 bad input (the message names the file, key or "
+    "line); 3 the data do not support a fit.";
+
+}  // namespace
+
+int main(int argc, char** argv) {
+  using tumbletrace::ExitCode;
+  namespace cli = tumbletrace::cli;
+  CLI::App app(kDescription, "tumbletrace");
+  app.require_subcommand(1);
+  app.set_version_flag("--version", TUMBLETRACE_VERSION);
+  cli::CommonOptions common;
+  for (int i = 0; i < argc; ++i) common.command_line += (i ? " " : "") + std::string(argv[i]);
+
+  cli::SimulateOptions sim;
+  CLI::App* simulate = app.add_subcommand(
+      "simulate",
+      "Simulate a throw from a scenario: writes clip.mp4 (H.264), session.yaml, camera.yaml, "
+      "body.yaml, truth.json and tracks.csv (exact marker pixels plus the scenario's noise).");
+  simulate->add_option("scenario", sim.scenario, "scenario YAML file (see docs/scenario.md)")
+      ->required()->check(CLI::ExistingFile);
+  simulate->add_option("-o,--out", sim.out_dir, "output folder (created when missing)")->required();
+  simulate->add_flag("--no-video", sim.no_video, "write the files but not clip.mp4");
+  simulate->add_flag("-q,--quiet", common.quiet, "print nothing but errors");
+
+  cli::FitCommandOptions fit;
+  CLI::App* fit_cmd = app.add_subcommand(
+      "fit",
+      "Fit the free-flight model (ballistic CM, constant spin, calibrated camera) to "
+      "identified marker tracks; writes results.json, frames.csv and residuals.csv.");
+  fit_cmd->add_option("session", fit.session, "session YAML file")->required()->check(CLI::ExistingFile);
+  fit_cmd->add_option("--tracks", fit.tracks, "tracks.csv with identified markers")
+      ->required()->check(CLI::ExistingFile);
+  fit_cmd->add_option("-o,--out", fit.out_dir, "output folder (created when missing)")->required();
+  fit_cmd->add_flag("--estimate-gravity", fit.estimate_gravity,
+                    "estimate all of g as a check of the camera's scale and the capture rate");
+  fit_cmd->add_option("--robust-scale-px", fit.robust_scale_px,
+                      "Huber loss scale of the first, robust pass, px")
+      ->capture_default_str()->check(CLI::PositiveNumber);
+  fit_cmd->add_option("--first-frame", fit.first_frame, "first frame of the free-flight window");
+  fit_cmd->add_option("--last-frame", fit.last_frame, "last frame of the free-flight window");
+  fit_cmd->add_flag("-q,--quiet", common.quiet, "print nothing but errors and warnings");
+
+  try {
+    app.parse(argc, argv);
+  } catch (const CLI::ParseError& e) {
+    const int code = app.exit(e);
+    return code == 0 ? 0 : static_cast<int>(ExitCode::kBadInput);
+  }
+  try {
+    if (*simulate) return cli::RunSimulate(sim, common);
+    if (*fit_cmd) return cli::RunFit(fit, common);
+  } catch (const tumbletrace::InputError& e) {
+    std::cerr << "error: " << e.what() << "\n";
+    return static_cast<int>(ExitCode::kBadInput);
+  } catch (const tumbletrace::DataError& e) {
+    std::cerr << "error: the data do not support a fit: " << e.what() << "\n";
+    return static_cast<int>(ExitCode::kUnsupportedData);
+  } catch (const std::exception& e) {
+    std::cerr << "internal error: " << e.what() << "\n";
+    return static_cast<int>(ExitCode::kInternalError);
+  }
+  return static_cast<int>(ExitCode::kInternalError);
+}

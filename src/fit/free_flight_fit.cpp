@@ -1,0 +1,388 @@
+#include "tumbletrace/fit/free_flight_fit.hpp"
+
+#include <ceres/ceres.h>
+#include <fmt/format.h>
+
+#include <Eigen/Dense>
+#include <algorithm>
+#include <chrono>
+#include <cmath>
+#include <map>
+#include <memory>
+
+#include "tumbletrace/core/error.hpp"
+#include "tumbletrace/fit/initialise.hpp"
+#include "tumbletrace/fit/reprojection_cost.hpp"
+
+namespace tumbletrace {
+
+std::string FitOptions::Validate() const {
+  if (!(robust_loss_scale_px > 0)) return "robust_loss_scale_px must be positive (px)";
+  if (!(outlier_threshold_sigma > 1)) return "outlier_threshold_sigma must exceed 1";
+  if (min_markers_per_frame < 3) return "min_markers_per_frame must be at least 3";
+  if (max_iterations < 1) return "max_iterations must be at least 1";
+  if (!(gravity_world_mps2.norm() > 0)) return "gravity must be a non-zero vector (m/s^2)";
+  if (first_frame && last_frame && *first_frame > *last_frame) {
+    return "the first frame of the window comes after its last frame";
+  }
+  return "";
+}
+
+namespace {
+
+// The parameter blocks Ceres works on, in the order of the cost function.
+struct ParameterBlocks {
+  explicit ParameterBlocks(const FlightParameters& p) {
+    std::copy_n(p.r0_world_m.data(), 3, r0);
+    std::copy_n(p.v0_world_mps.data(), 3, v0);
+    std::copy_n(p.g_world_mps2.data(), 3, g);
+    std::copy_n(p.q0_wxyz.data(), 4, q0);
+    std::copy_n(p.omega_world_radps.data(), 3, w);
+    std::copy_n(p.cm_body_m.data(), 3, c);
+  }
+  FlightParameters ToParameters(double t0_s) const {
+    FlightParameters p;
+    p.t0_s = t0_s;
+    p.r0_world_m = Eigen::Vector3d(r0);
+    p.v0_world_mps = Eigen::Vector3d(v0);
+    p.g_world_mps2 = Eigen::Vector3d(g);
+    p.q0_wxyz = Eigen::Vector4d(q0).normalized();
+    p.omega_world_radps = Eigen::Vector3d(w);
+    p.cm_body_m = Eigen::Vector3d(c);
+    return p;
+  }
+  std::vector<double*> All() { return {r0, v0, g, q0, w, c}; }
+
+  double r0[3], v0[3], g[3], q0[4], w[3], c[3];
+};
+
+struct Sighting {
+  int frame;
+  double time_s;
+  int marker_id;
+  Eigen::Vector2d pixel;
+  Eigen::Vector3d marker_body_m;
+};
+
+struct Solved {
+  ceres::Solver::Summary summary;
+};
+
+// Builds and solves the problem over the sightings flagged in `use`. The gauge: the world
+// frame is fixed by the camera's pose and gravity; the body frame by the marker layout.
+// Nothing else is fixed, so a spin about an axis fixed in space leaves one direction of c
+// (with r0) free: Levenberg-Marquardt's damping keeps it at its initial value, and the
+// covariance step below reports it as unobservable instead of giving it a number.
+std::unique_ptr<ceres::Problem> BuildProblem(const std::vector<Sighting>& sightings,
+                                             const std::vector<bool>& use, double t0_s,
+                                             const Camera& camera, const FitOptions& options,
+                                             bool robust, ParameterBlocks* blocks) {
+  ceres::Problem::Options problem_options;
+  problem_options.manifold_ownership = ceres::TAKE_OWNERSHIP;
+  auto problem = std::make_unique<ceres::Problem>(problem_options);
+  const RigidTransform camera_from_world = camera.camera_from_world.value_or(RigidTransform{});
+  for (size_t i = 0; i < sightings.size(); ++i) {
+    if (!use[i]) continue;
+    const Sighting& s = sightings[i];
+    ceres::LossFunction* loss =
+        robust ? new ceres::HuberLoss(options.robust_loss_scale_px) : nullptr;
+    problem->AddResidualBlock(
+        MarkerReprojectionCost<>::Create(s.pixel, s.marker_body_m, s.time_s - t0_s,
+                                         camera.intrinsics, camera_from_world),
+        loss, blocks->r0, blocks->v0, blocks->g, blocks->q0, blocks->w, blocks->c);
+  }
+  problem->SetManifold(blocks->q0, new ceres::QuaternionManifold);
+  if (options.gravity_mode == GravityMode::kFixed) problem->SetParameterBlockConstant(blocks->g);
+  return problem;
+}
+
+ceres::Solver::Summary Solve(ceres::Problem* problem, const FitOptions& options) {
+  ceres::Solver::Options solver;
+  solver.linear_solver_type = ceres::DENSE_QR;
+  solver.max_num_iterations = options.max_iterations;
+  // Ceres' default tolerances (1e-6 on the cost) stop far from the optimum of a problem
+  // this well conditioned; these stop at the limit of double precision instead.
+  solver.function_tolerance = 1e-15;
+  solver.gradient_tolerance = 1e-15;
+  solver.parameter_tolerance = 1e-14;
+  solver.num_threads = 1;
+  solver.logging_type = ceres::SILENT;
+  ceres::Solver::Summary summary;
+  ceres::Solve(solver, problem, &summary);
+  return summary;
+}
+
+std::vector<Eigen::Vector2d> Residuals(const std::vector<Sighting>& sightings,
+                                       const FlightParameters& p, const Camera& camera) {
+  std::vector<Eigen::Vector2d> r(sightings.size());
+  for (size_t i = 0; i < sightings.size(); ++i) {
+    Eigen::Vector2d predicted;
+    if (p.PredictPixel(camera, sightings[i].marker_body_m, sightings[i].time_s, &predicted)) {
+      r[i] = predicted - sightings[i].pixel;
+    } else {
+      r[i] = Eigen::Vector2d::Constant(std::numeric_limits<double>::infinity());
+    }
+  }
+  return r;
+}
+
+// Robust per-coordinate noise: 1.4826 x the median absolute residual component (the
+// normal-consistent MAD, common practice).
+double RobustSigma(const std::vector<Eigen::Vector2d>& r) {
+  std::vector<double> a;
+  a.reserve(2 * r.size());
+  for (const auto& e : r) {
+    a.push_back(std::abs(e.x()));
+    a.push_back(std::abs(e.y()));
+  }
+  const auto mid = a.begin() + a.size() / 2;
+  std::nth_element(a.begin(), mid, a.end());
+  return 1.4826 * *mid;
+}
+
+// Dense tangent-space Jacobian of all residuals, columns in CovarianceBlock order (the
+// columns of gravity are zero when it is held fixed).
+Eigen::MatrixXd DenseJacobian(ceres::Problem* problem, ParameterBlocks* blocks,
+                              bool gravity_fixed) {
+  ceres::Problem::EvaluateOptions eval;
+  std::vector<int> column_of_block;
+  const std::vector<double*> all = blocks->All();
+  const int offsets[] = {kR0, kV0, kG, kQ0, kOmega, kCm};
+  for (size_t b = 0; b < all.size(); ++b) {
+    if (gravity_fixed && all[b] == blocks->g) continue;
+    eval.parameter_blocks.push_back(all[b]);
+    for (int k = 0; k < 3; ++k) column_of_block.push_back(offsets[b] + k);
+  }
+  ceres::CRSMatrix crs;
+  problem->Evaluate(eval, nullptr, nullptr, nullptr, &crs);
+  Eigen::MatrixXd j = Eigen::MatrixXd::Zero(crs.num_rows, kTangentSize);
+  for (int row = 0; row < crs.num_rows; ++row) {
+    for (int k = crs.rows[row]; k < crs.rows[row + 1]; ++k) {
+      j(row, column_of_block.at(crs.cols[k])) = crs.values[k];
+    }
+  }
+  return j;
+}
+
+// The information of c with every other parameter marginalised (Schur complement of the
+// normal matrix), its eigen-structure, and the unobservable directions.
+CmObservability AnalyseCm(const Eigen::MatrixXd& jacobian, bool gravity_fixed, double sigma_px,
+                          double layout_size_m, const FitOptions& options) {
+  Eigen::MatrixXd info = jacobian.transpose() * jacobian;  // px^-2-free: J^T J
+  std::vector<int> others;
+  for (int i = 0; i < kCm; ++i) {
+    if (gravity_fixed && i >= kG && i < kG + 3) continue;
+    others.push_back(i);
+  }
+  const int n = static_cast<int>(others.size());
+  Eigen::MatrixXd a_oo(n, n), a_oc(n, 3);
+  for (int i = 0; i < n; ++i) {
+    for (int j = 0; j < n; ++j) a_oo(i, j) = info(others[i], others[j]);
+    a_oc.row(i) = info.block(others[i], kCm, 1, 3);
+  }
+  const Eigen::Matrix3d a_cc = info.block<3, 3>(kCm, kCm);
+  const Eigen::Matrix3d schur =
+      a_cc - a_oc.transpose() * a_oo.completeOrthogonalDecomposition().solve(a_oc);
+  Eigen::SelfAdjointEigenSolver<Eigen::Matrix3d> eig(0.5 * (schur + schur.transpose()));
+  CmObservability out;
+  out.information_eigenvalues = eig.eigenvalues() / (sigma_px * sigma_px);
+  out.information_eigenvectors = eig.eigenvectors();
+  const double largest = std::max(eig.eigenvalues().maxCoeff(), 1e-300);
+  Eigen::Matrix3d projector = Eigen::Matrix3d::Identity();
+  for (int k = 0; k < 3; ++k) {
+    const double lambda = eig.eigenvalues()[k];
+    const double sigma_m =
+        lambda > 0 ? sigma_px / std::sqrt(lambda) : std::numeric_limits<double>::infinity();
+    if (lambda < options.unobservable_relative_information * largest || sigma_m > layout_size_m) {
+      Eigen::Vector3d u = eig.eigenvectors().col(k).normalized();
+      // A sign convention for a direction: its largest component positive.
+      Eigen::Index i_max;
+      u.cwiseAbs().maxCoeff(&i_max);
+      if (u[i_max] < 0) u = -u;
+      out.unobservable_body.push_back(u);
+      projector -= u * u.transpose();
+    }
+  }
+  out.covariance_m2 = projector;  // filled by the caller with the projected covariance
+  return out;
+}
+
+double LayoutSize(const Body& body) {
+  double size = 0.0;
+  for (const Marker& a : body.markers) {
+    for (const Marker& b : body.markers) size = std::max(size, (a.at_body_m - b.at_body_m).norm());
+  }
+  return size;
+}
+
+}  // namespace
+
+FitResult FitFreeFlight(const std::vector<FrameSightings>& frames, const Body& body,
+                        const Camera& camera, const FitOptions& options) {
+  const auto start = std::chrono::steady_clock::now();
+  if (const std::string why = options.Validate(); !why.empty()) {
+    throw InputError("fit options: " + why);
+  }
+
+  // The window, and the sightings in it.
+  std::vector<Sighting> sightings;
+  std::map<int, int> frames_in_window;
+  for (const FrameSightings& f : frames) {
+    if (options.first_frame && f.frame < *options.first_frame) continue;
+    if (options.last_frame && f.frame > *options.last_frame) continue;
+    for (const MarkerSighting& s : f.sightings) {
+      const Marker* m = body.FindMarker(s.marker_id);
+      if (m == nullptr) {
+        throw InputError(fmt::format(
+            "tracks: frame {} names marker {}, which the body file does not define",
+            f.frame, s.marker_id));
+      }
+      sightings.push_back({f.frame, f.time_s, s.marker_id, s.pixel, m->at_body_m});
+      ++frames_in_window[f.frame];
+    }
+  }
+  if (frames_in_window.size() < 3) {
+    throw DataError(fmt::format("the window holds {} frames with identified markers; the fit "
+                                "needs at least 3",
+                                frames_in_window.size()));
+  }
+  std::vector<FrameSightings> window;
+  for (const FrameSightings& f : frames) {
+    if (frames_in_window.count(f.frame)) window.push_back(f);
+  }
+  // t0 at the middle frame of the window decouples position, velocity and acceleration.
+  const double t0_s = window[window.size() / 2].time_s;
+
+  const std::vector<BodyPose> poses =
+      EstimateFramePoses(window, body, camera, options.min_markers_per_frame);
+  FlightParameters initial = InitialiseFlight(poses, t0_s, options);
+
+  FitResult result;
+  result.first_frame = window.front().frame;
+  result.last_frame = window.back().frame;
+  result.frames_used = static_cast<int>(window.size());
+
+  // Pass 1: robust, from the closed-form start.
+  ParameterBlocks blocks(initial);
+  std::vector<bool> use(sightings.size(), true);
+  {
+    auto problem = BuildProblem(sightings, use, t0_s, camera, options, true, &blocks);
+    Solve(problem.get(), options);
+  }
+  // Pass 2 (and a third when the set of outliers changes): plain least squares on the
+  // sightings within `outlier_threshold_sigma` robust standard deviations.
+  std::unique_ptr<ceres::Problem> problem;
+  ceres::Solver::Summary summary;
+  for (int round = 0; round < 3; ++round) {
+    const FlightParameters current = blocks.ToParameters(t0_s);
+    const std::vector<Eigen::Vector2d> r = Residuals(sightings, current, camera);
+    std::vector<Eigen::Vector2d> inlier_r;
+    for (size_t i = 0; i < r.size(); ++i) {
+      if (use[i]) inlier_r.push_back(r[i]);
+    }
+    const double sigma = RobustSigma(round == 0 ? r : inlier_r);
+    const double limit_px = options.outlier_threshold_sigma * std::max(sigma, 1e-6);
+    std::vector<bool> next(sightings.size());
+    for (size_t i = 0; i < r.size(); ++i) next[i] = r[i].norm() <= limit_px;
+    if (round > 0 && next == use) break;
+    use = next;
+    problem = BuildProblem(sightings, use, t0_s, camera, options, false, &blocks);
+    summary = Solve(problem.get(), options);
+  }
+
+  const FlightParameters fitted = blocks.ToParameters(t0_s);
+  result.parameters = fitted;
+  result.converged = summary.termination_type == ceres::CONVERGENCE;
+  result.termination = summary.message;
+  result.iterations = static_cast<int>(summary.iterations.size());
+  result.observations = static_cast<int>(sightings.size());
+  result.outliers = static_cast<int>(std::count(use.begin(), use.end(), false));
+
+  // Residuals and the noise estimate: s^2 = sum r^2 / (n_residuals - n_parameters).
+  const std::vector<Eigen::Vector2d> r = Residuals(sightings, fitted, camera);
+  double sum_sq = 0.0;
+  int n_inliers = 0;
+  for (size_t i = 0; i < sightings.size(); ++i) {
+    result.residuals.push_back({sightings[i].frame, sightings[i].time_s, sightings[i].marker_id,
+                                sightings[i].pixel, r[i], !use[i]});
+    if (use[i]) {
+      sum_sq += r[i].squaredNorm();
+      ++n_inliers;
+    }
+  }
+  const bool gravity_fixed = options.gravity_mode == GravityMode::kFixed;
+  const Eigen::MatrixXd jacobian = DenseJacobian(problem.get(), &blocks, gravity_fixed);
+  // Parameters actually determined: tangent size less the fixed and the null directions.
+  Eigen::JacobiSVD<Eigen::MatrixXd> svd(jacobian);
+  const Eigen::VectorXd sv = svd.singularValues();
+  int rank = 0;
+  for (int i = 0; i < sv.size(); ++i) rank += sv[i] > 1e-7 * sv[0];
+  result.degrees_of_freedom = 2 * n_inliers - rank;
+  if (result.degrees_of_freedom <= 0) {
+    throw DataError(fmt::format("{} sightings cannot determine {} parameters", n_inliers, rank));
+  }
+  result.rms_px = std::sqrt(sum_sq / (2.0 * n_inliers));
+  result.sigma_px = std::sqrt(sum_sq / result.degrees_of_freedom);
+
+  // Covariance by Ceres: the Moore-Penrose inverse of J^T J in the tangent space (dense
+  // SVD, so that an unobservable direction does not stop it), scaled by s^2.
+  ceres::Covariance::Options cov_options;
+  cov_options.algorithm_type = ceres::DENSE_SVD;
+  cov_options.null_space_rank = -1;
+  cov_options.min_reciprocal_condition_number = 1e-14;
+  cov_options.num_threads = 1;
+  ceres::Covariance covariance(cov_options);
+  std::vector<const double*> cov_blocks = {blocks.r0, blocks.v0, blocks.q0, blocks.w, blocks.c};
+  if (!gravity_fixed) cov_blocks.insert(cov_blocks.begin() + 2, blocks.g);
+  std::vector<std::pair<const double*, const double*>> pairs;
+  for (size_t i = 0; i < cov_blocks.size(); ++i) {
+    for (size_t j = i; j < cov_blocks.size(); ++j) pairs.emplace_back(cov_blocks[i], cov_blocks[j]);
+  }
+  result.covariance.setZero();
+  if (!covariance.Compute(pairs, problem.get())) {
+    throw DataError("the covariance of the fit could not be computed (the problem is singular "
+                    "beyond the unobservable CM directions)");
+  }
+  const std::map<const double*, int> offset = {{blocks.r0, kR0}, {blocks.v0, kV0},
+                                               {blocks.g, kG},   {blocks.q0, kQ0},
+                                               {blocks.w, kOmega}, {blocks.c, kCm}};
+  const double s2 = result.sigma_px * result.sigma_px;
+  for (const auto& [a, b] : pairs) {
+    Eigen::Matrix<double, 3, 3, Eigen::RowMajor> block;
+    covariance.GetCovarianceBlockInTangentSpace(a, b, block.data());
+    result.covariance.block<3, 3>(offset.at(a), offset.at(b)) = s2 * block;
+    result.covariance.block<3, 3>(offset.at(b), offset.at(a)) = s2 * block.transpose();
+  }
+
+  // Observability of the CM in the body frame.
+  result.cm = AnalyseCm(jacobian, gravity_fixed, result.sigma_px, std::max(LayoutSize(body), 1e-3),
+                        options);
+  const Eigen::Matrix3d projector = result.cm.covariance_m2;
+  result.cm.covariance_m2 =
+      projector * result.covariance.block<3, 3>(kCm, kCm) * projector.transpose();
+  for (const Eigen::Vector3d& u : result.cm.unobservable_body) {
+    const Eigen::Vector3d axis_world = fitted.WorldFromBodyAt(t0_s) * u;
+    result.warnings.push_back(fmt::format(
+        "The CM is not determined along the body direction [{:.3f}, {:.3f}, {:.3f}]: the body "
+        "spun about an axis fixed in space (world direction [{:.3f}, {:.3f}, {:.3f}]), so a "
+        "shift of the CM along that axis moves every marker by the same constant offset, "
+        "which the CM path absorbs. That component is reported as null. A throw that spins "
+        "the body about another axis, or one that tumbles it, determines it.",
+        u.x(), u.y(), u.z(), axis_world.x(), axis_world.y(), axis_world.z()));
+  }
+  if (!result.converged) {
+    result.warnings.push_back("The fit did not converge: " + summary.message);
+  }
+  if (result.outliers > 0) {
+    result.warnings.push_back(fmt::format(
+        "{} of {} sightings ({:.1f} %) lay more than {:.1f} robust standard deviations from "
+        "the model and were left out as outliers.",
+        result.outliers, result.observations, 100.0 * result.outliers / result.observations,
+        options.outlier_threshold_sigma));
+  }
+  result.solve_seconds =
+      std::chrono::duration<double>(std::chrono::steady_clock::now() - start).count();
+  return result;
+}
+
+}  // namespace tumbletrace

@@ -1,0 +1,109 @@
+#include "tumbletrace/sim/scenario.hpp"
+
+#include <cmath>
+
+#include "tumbletrace/core/error.hpp"
+#include "tumbletrace/core/yaml_reader.hpp"
+#include "tumbletrace/model/mass_properties.hpp"
+
+namespace tumbletrace {
+namespace {
+
+// `principal-1|2|3` (ascending moments) or an explicit body vector.
+Eigen::Vector3d SpinAxis(YamlMap& spin, const Body& body) {
+  const YAML::Node node = spin.Node("axis_body");
+  if (node.IsScalar()) {
+    const std::string name = node.as<std::string>();
+    const int k = name == "principal-1" ? 0 : name == "principal-2" ? 1
+                : name == "principal-3" ? 2 : -1;
+    if (k < 0) spin.Fail("axis_body", "principal-1, principal-2, principal-3 or [x, y, z]");
+    if (body.parts.empty()) spin.Fail("axis_body", "a parts list in the body file for principal axes");
+    return Principal(CombineParts(body.parts).inertia_about_cm_kgm2).axes_body.col(k);
+  }
+  const Eigen::Vector3d axis = spin.Vector3("axis_body", "principal-1..3 or [x, y, z]");
+  if (!(axis.norm() > 0)) spin.Fail("axis_body", "a non-zero vector");
+  return axis.normalized();
+}
+
+}  // namespace
+
+Scenario ReadScenarioYaml(const std::filesystem::path& path) {
+  YamlMap root = YamlMap::LoadFile(path);
+  Scenario s;
+  s.file = path;
+  const std::filesystem::path folder = path.parent_path();
+  s.body_file = folder / root.String("body", "the name of a body file");
+  s.camera_file = folder / root.String("camera", "the name of a camera file");
+  s.body = ReadBodyYaml(s.body_file);
+  s.camera = ReadCameraYaml(s.camera_file);
+  if (s.body.parts.empty()) {
+    root.Fail("body", "a body file with a parts list (the simulator needs mass and inertia)");
+  }
+  if (!s.camera.camera_from_world) {
+    root.Fail("camera", "a camera file with world_to_camera (the simulator needs a pose)");
+  }
+  s.capture_fps = root.Number("capture_fps", "a capture rate in frames/s");
+  if (!(s.capture_fps > 0)) root.Fail("capture_fps", "a positive rate in frames/s");
+  s.frames = root.Integer("frames", "a frame count");
+  if (s.frames < 1) root.Fail("frames", "at least 1 frame");
+  s.exposure_s = root.OptionalNumber("exposure_s", "a shutter time in s").value_or(0.0);
+  if (s.exposure_s < 0 || s.exposure_s > 1.0 / s.capture_fps) {
+    root.Fail("exposure_s", "a shutter time between 0 and one frame interval, s");
+  }
+  if (auto g = root.OptionalVector3("gravity_mps2", "a world vector [x, y, z] in m/s^2")) {
+    s.gravity_world_mps2 = *g;
+  }
+
+  YamlMap launch = root.Map("launch");
+  s.launch_cm_world_m = launch.Vector3("position_m", "the CM's world position [x, y, z], m");
+  s.launch_velocity_world_mps = launch.Vector3("velocity_mps", "the CM's velocity, m/s");
+  if (launch.Has("orientation")) {
+    YamlMap o = launch.Map("orientation");
+    const Eigen::Vector3d axis = o.Vector3("axis", "a rotation axis [x, y, z]");
+    const double angle_deg = o.Number("angle_deg", "an angle in degrees");
+    if (!(axis.norm() > 0)) o.Fail("axis", "a non-zero vector");
+    s.launch_world_from_body = Eigen::AngleAxisd(angle_deg * M_PI / 180.0, axis.normalized());
+    o.Finish();
+  }
+  launch.Finish();
+
+  YamlMap spin = root.Map("spin");
+  if (spin.Has("omega_body_radps")) {
+    s.launch_omega_body_radps = spin.Vector3("omega_body_radps", "[x, y, z] in rad/s");
+  } else {
+    const Eigen::Vector3d axis = SpinAxis(spin, s.body);
+    const double rate = spin.Number("rate_rev_per_s", "a spin rate in rev/s");
+    s.launch_omega_body_radps = 2.0 * M_PI * rate * axis;
+  }
+  spin.Finish();
+
+  if (root.Has("noise")) {
+    YamlMap noise = root.Map("noise");
+    s.tracks_sigma_px = noise.OptionalNumber("tracks_sigma_px", "px").value_or(0.0);
+    s.image_sigma_levels = noise.OptionalNumber("image_sigma_levels", "grey levels").value_or(2.0);
+    if (auto seed = noise.OptionalInteger("seed", "a non-negative integer")) {
+      if (*seed < 0) noise.Fail("seed", "a non-negative integer");
+      s.seed = static_cast<std::uint64_t>(*seed);
+    }
+    if (s.tracks_sigma_px < 0 || s.image_sigma_levels < 0) noise.Fail("", "non-negative noise");
+    noise.Finish();
+  }
+  if (root.Has("video")) {
+    YamlMap v = root.Map("video");
+    s.video.write = v.OptionalBoolean("write").value_or(true);
+    s.video.playback_fps = v.OptionalNumber("playback_fps", "frames/s").value_or(30.0);
+    s.video.exposure_samples = v.OptionalInteger("exposure_samples").value_or(8);
+    s.video.supersampling = v.OptionalInteger("supersampling").value_or(4);
+    s.video.background_level = v.OptionalNumber("background_level", "0..255").value_or(40.0);
+    s.video.body_level = v.OptionalNumber("body_level", "0..255").value_or(70.0);
+    s.video.dot_level = v.OptionalNumber("dot_level", "0..255").value_or(230.0);
+    if (s.video.exposure_samples < 1 || s.video.supersampling < 1) {
+      v.Fail("", "exposure_samples and supersampling of at least 1");
+    }
+    v.Finish();
+  }
+  root.Finish();
+  return s;
+}
+
+}  // namespace tumbletrace

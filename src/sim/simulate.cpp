@@ -1,0 +1,295 @@
+#include "tumbletrace/sim/simulate.hpp"
+
+#include <fmt/format.h>
+
+#include <cmath>
+#include <fstream>
+#include <nlohmann/json.hpp>
+#include <opencv2/imgproc.hpp>
+#include <random>
+
+#include "tumbletrace/clip/video_writer.hpp"
+#include "tumbletrace/core/atomic_file.hpp"
+#include "tumbletrace/core/error.hpp"
+#include "tumbletrace/model/session.hpp"
+#include "tumbletrace/sim/render.hpp"
+
+namespace tumbletrace {
+namespace {
+
+RigidBodyIntegrator MakeIntegrator(const Scenario& s, const MassProperties& mass) {
+  const Eigen::Vector3d g = s.gravity_world_mps2;
+  // Steps short against both the frame interval and the spin: RK4's error per step grows
+  // as (w h)^5, far below 1e-12 rad at w h <= 0.005.
+  const double w = s.launch_omega_body_radps.norm();
+  const double max_step_s = std::min(0.1 / s.capture_fps, w > 0 ? 0.005 / w : 1.0);
+  return RigidBodyIntegrator(
+      mass.inertia_about_cm_kgm2,
+      [g](const Eigen::Vector3d&, const Eigen::Vector3d&) { return g; }, max_step_s);
+}
+
+Eigen::Vector3d MarkerWorld(const RigidState& state, const MassProperties& mass,
+                            const Eigen::Vector3d& at_body_m) {
+  return state.cm_world_m + state.world_from_body * (at_body_m - mass.cm_body_m);
+}
+
+// Pixel Jacobian d(u, v)/d(x_camera) by central differences of the full projection.
+Eigen::Matrix<double, 2, 3> PixelJacobian(const CameraIntrinsics& k, const Eigen::Vector3d& x) {
+  Eigen::Matrix<double, 2, 3> j;
+  const double h = 1e-6 * std::max(1.0, x.norm());
+  for (int c = 0; c < 3; ++c) {
+    Eigen::Vector3d xp = x, xm = x;
+    xp[c] += h;
+    xm[c] -= h;
+    Eigen::Vector2d up, um;
+    ProjectCameraPoint(k, xp.data(), up.data());
+    ProjectCameraPoint(k, xm.data(), um.data());
+    j.col(c) = (up - um) / (2 * h);
+  }
+  return j;
+}
+
+// A marker as the camera sees it at one instant; false when hidden or out of view.
+bool ProjectMarker(const Camera& camera, const RigidState& state, const MassProperties& mass,
+                   const Marker& marker, Eigen::Vector2d* pixel, RenderedDot* dot) {
+  const RigidTransform& cfw = *camera.camera_from_world;
+  const Eigen::Vector3d x_cam = cfw.Apply(MarkerWorld(state, mass, marker.at_body_m));
+  if (x_cam.z() <= 0) return false;
+  ProjectCameraPoint(camera.intrinsics, x_cam.data(), pixel->data());
+  const Eigen::Vector3d to_camera = -x_cam.normalized();
+  Eigen::Vector3d normal_cam = to_camera;  // a spherical marker faces the camera
+  if (marker.normal_body) {
+    normal_cam = cfw.rotation * (state.world_from_body * *marker.normal_body);
+    // Dots seen at grazing angles are neither rendered nor tracked.
+    if (normal_cam.dot(to_camera) < 0.15) return false;
+  }
+  const double radius_m = 0.5 * marker.diameter_m;
+  const Eigen::Matrix<double, 2, 3> j = PixelJacobian(camera.intrinsics, x_cam);
+  // The image of a flat disc of radius rho with normal n: S = rho^2 J (E - n n^T) J^T.
+  dot->center_px = *pixel;
+  dot->shape_px2 =
+      radius_m * radius_m * j * (Eigen::Matrix3d::Identity() - normal_cam * normal_cam.transpose()) *
+      j.transpose();
+  dot->intensity = 1.0;
+  const double margin_px = std::sqrt(dot->shape_px2.trace());
+  const auto& k = camera.intrinsics;
+  return pixel->x() >= margin_px && pixel->y() >= margin_px &&
+         pixel->x() <= k.width_px - 1 - margin_px && pixel->y() <= k.height_px - 1 - margin_px;
+}
+
+// Surface samples of a part in the body frame, for its silhouette (convex hull).
+std::vector<Eigen::Vector3d> PartSamples(const Part& part) {
+  std::vector<Eigen::Vector3d> pts;
+  constexpr int kRing = 24;
+  switch (part.shape) {
+    case PartShape::kCylinder: {
+      const Eigen::Vector3d a = part.axis_body.normalized();
+      const Eigen::Vector3d u = a.unitOrthogonal(), v = a.cross(u);
+      const double r = 0.5 * part.diameter_m;
+      for (int end = 0; end < 2; ++end) {
+        const Eigen::Vector3d c = part.from_body_m + end * part.length_m * a;
+        for (int i = 0; i < kRing; ++i) {
+          const double phi = 2 * M_PI * i / kRing;
+          pts.push_back(c + r * (std::cos(phi) * u + std::sin(phi) * v));
+        }
+      }
+      break;
+    }
+    case PartShape::kBox:
+      for (int i = 0; i < 8; ++i) {
+        const Eigen::Vector3d sign((i & 1) ? 0.5 : -0.5, (i & 2) ? 0.5 : -0.5, (i & 4) ? 0.5 : -0.5);
+        pts.push_back(part.center_body_m + sign.cwiseProduct(part.size_m));
+      }
+      break;
+    case PartShape::kSphere:
+      for (int i = 0; i < kRing; ++i) {
+        for (int j = 1; j < kRing / 2; ++j) {
+          const double phi = 2 * M_PI * i / kRing, theta = M_PI * j / (kRing / 2);
+          pts.push_back(part.center_body_m +
+                        0.5 * part.diameter_m *
+                            Eigen::Vector3d(std::sin(theta) * std::cos(phi),
+                                            std::sin(theta) * std::sin(phi), std::cos(theta)));
+        }
+      }
+      break;
+    case PartShape::kPointMass:
+      break;
+  }
+  return pts;
+}
+
+SceneInstant ProjectScene(const Simulation& sim, const RigidState& state) {
+  const Scenario& s = sim.scenario;
+  SceneInstant scene;
+  for (const Part& part : s.body.parts) {
+    std::vector<cv::Point2f> projected;
+    bool in_front = true;
+    for (const Eigen::Vector3d& p : PartSamples(part)) {
+      const Eigen::Vector3d x_cam = s.camera.camera_from_world->Apply(MarkerWorld(state, sim.mass, p));
+      Eigen::Vector2d px;
+      if (!ProjectCameraPoint(s.camera.intrinsics, x_cam.data(), px.data())) {
+        in_front = false;
+        break;
+      }
+      projected.emplace_back(px.x(), px.y());
+    }
+    if (!in_front || projected.size() < 3) continue;
+    std::vector<cv::Point2f> hull;
+    cv::convexHull(projected, hull);
+    std::vector<Eigen::Vector2d> polygon;
+    for (const auto& p : hull) polygon.emplace_back(p.x, p.y);
+    scene.silhouette_polygons_px.push_back(std::move(polygon));
+  }
+  for (const Marker& m : s.body.markers) {
+    Eigen::Vector2d px;
+    RenderedDot dot;
+    if (ProjectMarker(s.camera, state, sim.mass, m, &px, &dot)) scene.dots.push_back(dot);
+  }
+  return scene;
+}
+
+nlohmann::json Vec(const Eigen::Vector3d& v) { return {v.x(), v.y(), v.z()}; }
+
+nlohmann::json TruthJson(const Simulation& sim) {
+  const Scenario& s = sim.scenario;
+  const RigidState& launch = sim.frames.front().state;
+  const Eigen::Vector3d omega_world = launch.world_from_body * launch.omega_body_radps;
+  nlohmann::json j;
+  j["note"] = "Ground truth of a simulated throw (invented scenario).";
+  j["scenario"] = s.file.filename().string();
+  j["capture_fps"] = s.capture_fps;
+  j["mass_kg"] = sim.mass.mass_kg;
+  j["cm"]["body_m"] = Vec(sim.mass.cm_body_m);
+  nlohmann::json inertia = nlohmann::json::array();
+  for (int r = 0; r < 3; ++r) inertia.push_back(Vec(sim.mass.inertia_about_cm_kgm2.row(r)));
+  j["inertia_about_cm_kgm2"] = inertia;
+  j["gravity_mps2"] = Vec(s.gravity_world_mps2);
+  j["launch"]["time_s"] = sim.frames.front().time_s;
+  j["launch"]["position_m"] = Vec(launch.cm_world_m);
+  j["launch"]["velocity_mps"] = Vec(launch.velocity_world_mps);
+  j["spin"]["omega_body_radps"] = Vec(launch.omega_body_radps);
+  j["spin"]["omega_world_radps"] = Vec(omega_world);
+  j["spin"]["rate_rev_per_s"] = launch.omega_body_radps.norm() / (2 * M_PI);
+  j["tracks_sigma_px"] = s.tracks_sigma_px;
+  nlohmann::json frames = nlohmann::json::array();
+  for (const FrameTruth& f : sim.frames) {
+    nlohmann::json fj;
+    fj["frame"] = f.frame;
+    fj["time_s"] = f.time_s;
+    fj["cm_world_m"] = Vec(f.state.cm_world_m);
+    fj["velocity_world_mps"] = Vec(f.state.velocity_world_mps);
+    const Eigen::Quaterniond& q = f.state.world_from_body;
+    fj["q_world_from_body_wxyz"] = {q.w(), q.x(), q.y(), q.z()};
+    fj["omega_body_radps"] = Vec(f.state.omega_body_radps);
+    nlohmann::json markers = nlohmann::json::array();
+    for (const MarkerTruth& m : f.markers) {
+      markers.push_back({{"id", m.id}, {"x_px", m.pixel.x()}, {"y_px", m.pixel.y()},
+                         {"visible", m.visible}});
+    }
+    fj["markers"] = markers;
+    frames.push_back(fj);
+  }
+  j["frames"] = frames;
+  return j;
+}
+
+}  // namespace
+
+Simulation SimulateFlight(const Scenario& scenario) {
+  Simulation sim;
+  sim.scenario = scenario;
+  if (scenario.body.parts.empty()) {
+    throw InputError(scenario.body_file.string() +
+                     ": the simulator needs a parts list (mass, CM and inertia)");
+  }
+  sim.mass = CombineParts(scenario.body.parts);
+  const RigidBodyIntegrator integrator = MakeIntegrator(scenario, sim.mass);
+  RigidState state;
+  state.cm_world_m = scenario.launch_cm_world_m;
+  state.velocity_world_mps = scenario.launch_velocity_world_mps;
+  state.world_from_body = scenario.launch_world_from_body.normalized();
+  state.omega_body_radps = scenario.launch_omega_body_radps;
+  std::mt19937_64 rng(scenario.seed);
+  std::normal_distribution<double> noise(0.0, 1.0);
+  const double dt = 1.0 / scenario.capture_fps;
+  for (int i = 0; i < scenario.frames; ++i) {
+    if (i > 0) state = integrator.Advance(state, dt);
+    FrameTruth f;
+    f.frame = i;
+    f.time_s = i * dt;
+    f.state = state;
+    for (const Marker& m : scenario.body.markers) {
+      MarkerTruth t;
+      t.id = m.id;
+      RenderedDot dot;
+      t.visible = ProjectMarker(scenario.camera, state, sim.mass, m, &t.pixel, &dot);
+      f.markers.push_back(t);
+      if (!t.visible) continue;
+      TrackPoint p;
+      p.frame = i;
+      p.time_s = f.time_s;
+      p.track = m.id;
+      p.marker = m.id;
+      p.x_px = t.pixel.x() + scenario.tracks_sigma_px * noise(rng);
+      p.y_px = t.pixel.y() + scenario.tracks_sigma_px * noise(rng);
+      p.quality = 1.0;
+      sim.tracks.push_back(p);
+    }
+    sim.frames.push_back(std::move(f));
+  }
+  return sim;
+}
+
+RigidState StateAt(const Simulation& sim, double t_s) {
+  const double fps = sim.scenario.capture_fps;
+  const int k = std::clamp(static_cast<int>(std::floor(t_s * fps + 0.5)), 0,
+                           static_cast<int>(sim.frames.size()) - 1);
+  return MakeIntegrator(sim.scenario, sim.mass).Advance(sim.frames[k].state, t_s - k / fps);
+}
+
+void WriteSimulation(const Simulation& sim, const std::filesystem::path& dir,
+                     const std::function<void(int done, int total)>& progress) {
+  const Scenario& s = sim.scenario;
+  std::filesystem::create_directories(dir);
+  WriteCameraYaml(s.camera, dir / "camera.yaml");
+  WriteBodyYaml(s.body, dir / "body.yaml");
+  Session session;
+  session.clip = dir / "clip.mp4";
+  session.capture_fps = s.capture_fps;
+  session.camera_file = dir / "camera.yaml";
+  session.body_file = dir / "body.yaml";
+  session.gravity.vector_mps2 = s.gravity_world_mps2;
+  WriteSessionYaml(session, dir / "session.yaml");
+  WriteTracksCsv(sim.tracks, dir / "tracks.csv");
+  WriteFileAtomically(dir / "truth.json",
+                      [&](std::ostream& out) { out << TruthJson(sim).dump(2) << "\n"; });
+  if (!s.video.write) return;
+
+  RenderSettings render;
+  render.width_px = s.camera.intrinsics.width_px;
+  render.height_px = s.camera.intrinsics.height_px;
+  render.background_level = s.video.background_level;
+  render.body_level = s.video.body_level;
+  render.dot_level = s.video.dot_level;
+  render.supersampling = s.video.supersampling;
+  render.noise_sigma_levels = s.image_sigma_levels;
+  const RigidBodyIntegrator integrator = MakeIntegrator(s, sim.mass);
+  const int samples = s.exposure_s > 0 ? s.video.exposure_samples : 1;
+  WritePathAtomically(dir / "clip.mp4", [&](const std::filesystem::path& tmp) {
+    VideoWriter writer(tmp, cv::Size(render.width_px, render.height_px), s.video.playback_fps);
+    for (const FrameTruth& f : sim.frames) {
+      std::vector<SceneInstant> exposure;
+      for (int j = 0; j < samples; ++j) {
+        // The exposure is centred on the frame time.
+        const double offset_s = samples > 1 ? s.exposure_s * ((j + 0.5) / samples - 0.5) : 0.0;
+        exposure.push_back(ProjectScene(sim, integrator.Advance(f.state, offset_s)));
+      }
+      render.noise_seed = s.seed * 1000003ULL + static_cast<std::uint64_t>(f.frame);
+      writer.Write(RenderFrame(exposure, render));
+      if (progress) progress(f.frame + 1, static_cast<int>(sim.frames.size()));
+    }
+    writer.Close();
+  });
+}
+
+}  // namespace tumbletrace

@@ -1,0 +1,62 @@
+#include "tumbletrace/fit/summary.hpp"
+
+#include <gtest/gtest.h>
+
+#include "support/fit_helpers.hpp"
+#include "support/scenarios.hpp"
+
+namespace tumbletrace {
+namespace {
+
+TEST(Summary, CmRepresentativeChangesNoPrediction) {
+  const Scenario s = testing::ObliqueSpinScenario(0.2, 21);
+  const Simulation sim = SimulateFlight(s);
+  FitResult fit = FitFreeFlight(GroupByFrame(sim.tracks, s.capture_fps), s.body, s.camera,
+                                testing::DefaultFitOptions(s));
+  const FlightParameters before = fit.parameters;
+  Summarise(&fit, s.body);
+  for (const double t : {0.0, 0.1, 0.249}) {
+    for (const Marker& m : s.body.markers) {
+      Eigen::Vector2d a, b;
+      ASSERT_TRUE(before.PredictPixel(s.camera, m.at_body_m, t, &a));
+      ASSERT_TRUE(fit.parameters.PredictPixel(s.camera, m.at_body_m, t, &b));
+      EXPECT_LT((a - b).norm(), 1e-9);
+    }
+  }
+  EXPECT_NEAR(fit.parameters.cm_body_m.dot(fit.cm.unobservable_body.at(0)), 0.0, 1e-12);
+}
+
+TEST(Summary, CeresCovarianceAgreesWithTheSchurComplementOnObservableDirections) {
+  // Two routes to the CM's uncertainty: Ceres' pseudo-inverse of J^T J (then projected)
+  // and the inverse of the Schur complement of c, from the same Jacobian.
+  const Scenario s = testing::PlanarSpinScenario(0.2, 22);
+  const auto r = testing::SimulateAndFit(s, testing::DefaultFitOptions(s));
+  const CmObservability& cm = r.fit.cm;
+  int observable = 0;
+  for (int k = 0; k < 3; ++k) {
+    const Eigen::Vector3d e = cm.information_eigenvectors.col(k);
+    bool is_null = false;
+    for (const auto& u : cm.unobservable_body) is_null |= std::abs(u.dot(e)) > 0.5;
+    if (is_null) continue;
+    ++observable;
+    const double variance = e.dot(cm.covariance_m2 * e);
+    EXPECT_NEAR(variance * cm.information_eigenvalues[k], 1.0, 1e-6);
+  }
+  EXPECT_EQ(observable, 2);
+}
+
+TEST(Summary, LaunchVelocitySigmaWithFixedGravityIsThatOfV0) {
+  const Scenario s = testing::PlanarSpinScenario(0.2, 23);
+  const auto r = testing::SimulateAndFit(s, testing::DefaultFitOptions(s));
+  for (int i = 0; i < 3; ++i) {
+    EXPECT_NEAR(r.summary.launch_sigma_velocity_mps[i],
+                std::sqrt(r.fit.covariance(kV0 + i, kV0 + i)), 1e-9);
+  }
+  EXPECT_GT(r.summary.sigma_rate_rev_per_s, 0.0);
+  // The launch position along the spin axis (world y) is as undetermined as c_z.
+  EXPECT_FALSE(r.summary.launch_position_m[1].has_value());
+  EXPECT_TRUE(r.summary.launch_position_m[0].has_value());
+}
+
+}  // namespace
+}  // namespace tumbletrace

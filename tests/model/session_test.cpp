@@ -1,0 +1,272 @@
+#include "tumbletrace/model/session.hpp"
+
+#include <gtest/gtest.h>
+#include <unistd.h>
+
+#include <filesystem>
+#include <fstream>
+#include <functional>
+#include <sstream>
+
+#include "tumbletrace/core/error.hpp"
+
+namespace tumbletrace {
+namespace {
+
+namespace fs = std::filesystem;
+
+std::string InputErrorOf(const std::function<void()>& action) {
+  try {
+    action();
+  } catch (const InputError& error) {
+    return error.what();
+  }
+  return "(no InputError thrown)";
+}
+
+// WGS 84 normal gravity on the ellipsoid, m/s^2 (NIMA TR8350.2, 3rd ed.; values as listed
+// in ../shared/REFERENCES.md).
+TEST(NormalGravityTest, Wgs84ValuesOnTheEllipsoid) {
+  EXPECT_NEAR(NormalGravityWgs84(0.0, 0.0), 9.7803253359, 1e-9);
+  EXPECT_NEAR(NormalGravityWgs84(45.0, 0.0), 9.8061977694, 1e-9);
+  EXPECT_NEAR(NormalGravityWgs84(90.0, 0.0), 9.8321849379, 1e-9);
+  EXPECT_NEAR(NormalGravityWgs84(-90.0, 0.0), 9.8321849379, 1e-9);
+}
+
+// The height term against the common free-air gradient, about 0.3086 mGal/m
+// (3.086e-6 s^-2), a figure independent of the formula's constants.
+TEST(NormalGravityTest, DecreasesWithHeightAtTheFreeAirGradient) {
+  for (double latitude_deg : {0.0, 30.0, 45.0, 60.0, 90.0}) {
+    const double gradient =
+        (NormalGravityWgs84(latitude_deg, 0.0) - NormalGravityWgs84(latitude_deg, 1000.0)) / 1000.0;
+    EXPECT_NEAR(gradient, 3.086e-6, 0.01e-6) << latitude_deg << " deg";
+  }
+}
+
+TEST(GravitySpecTest, WorldVectorAndMagnitude) {
+  GravitySpec vector;
+  vector.vector_mps2 = Eigen::Vector3d(0, -9.81, 0);
+  EXPECT_EQ(vector.WorldVector(), Eigen::Vector3d(0, -9.81, 0));
+  EXPECT_DOUBLE_EQ(vector.Magnitude(), 9.81);
+
+  GravitySpec magnitude;
+  magnitude.magnitude_mps2 = 9.79;
+  EXPECT_FALSE(magnitude.WorldVector().has_value());
+  EXPECT_EQ(magnitude.Magnitude(), 9.79);
+
+  GravitySpec place;
+  place.latitude_deg = 45.0;
+  place.elevation_m = 0.0;
+  ASSERT_TRUE(place.WorldVector().has_value());
+  EXPECT_NEAR(place.WorldVector()->z(), -9.8061977694, 1e-9);
+  EXPECT_EQ(place.WorldVector()->head<2>(), Eigen::Vector2d::Zero());
+  EXPECT_NEAR(place.Magnitude(), 9.8061977694, 1e-9);
+}
+
+// A fresh folder per test, with a camera and a body file in it; removed afterwards.
+class SessionFileTest : public ::testing::Test {
+ protected:
+  void SetUp() override {
+    const auto* info = ::testing::UnitTest::GetInstance()->current_test_info();
+    folder_ = fs::temp_directory_path() /
+              ("tumbletrace_session_" + std::string(info->name()) + "_" + std::to_string(getpid()));
+    fs::remove_all(folder_);
+    fs::create_directories(folder_ / "cal");
+    WriteText("cal/camera.yaml",
+              "image_size: [1024, 768]\nfx: 1400\nfy: 1400\ncx: 512\ncy: 384\n"
+              "distortion: [0, 0, 0, 0, 0]\n");
+    WriteText("body.yaml",
+              "units: mm\nmarkers: [{id: 1, at: [0, 0, 0]}, {id: 2, at: [10, 0, 0]}]\n");
+  }
+  void TearDown() override { fs::remove_all(folder_); }
+
+  fs::path WriteText(const std::string& name, const std::string& text) const {
+    const fs::path path = folder_ / name;
+    std::ofstream(path) << text;
+    return path;
+  }
+  fs::path WriteSession(const std::string& extra) const {
+    return WriteText("session.yaml",
+                     "clip: clip.mp4\ncapture_fps: 1000\ncamera: cal/camera.yaml\n"
+                     "body: body.yaml\n" +
+                         extra);
+  }
+  // The message of reading a session with `extra` lines, with the folder taken off the path.
+  std::string ErrorReading(const std::string& extra) const {
+    const fs::path path = WriteSession(extra);
+    std::string message = InputErrorOf([&] { ReadSessionYaml(path); });
+    const std::string prefix = (folder_ / "").string();
+    if (message.rfind(prefix, 0) == 0) message.erase(0, prefix.size());
+    return message;
+  }
+  static std::string Contents(const fs::path& path) {
+    std::ifstream in(path);
+    std::ostringstream text;
+    text << in.rdbuf();
+    return text.str();
+  }
+
+  fs::path folder_;
+};
+
+TEST_F(SessionFileTest, ResolvesFilesBesideTheSession) {
+  const Session session = ReadSessionYaml(WriteSession(""));
+  EXPECT_EQ(session.file, folder_ / "session.yaml");
+  EXPECT_EQ(session.clip, folder_ / "clip.mp4");
+  EXPECT_EQ(session.camera_file, folder_ / "cal" / "camera.yaml");
+  EXPECT_EQ(session.body_file, folder_ / "body.yaml");
+  EXPECT_EQ(session.capture_fps, 1000.0);
+  EXPECT_DOUBLE_EQ(session.FrameTime(120), 0.12);
+  EXPECT_EQ(session.camera.intrinsics.fx_px, 1400.0);
+  EXPECT_EQ(session.body.markers.size(), 2u);
+  // Neither gravity key: standard gravity along world -z.
+  EXPECT_EQ(session.gravity.WorldVector(), Eigen::Vector3d(0, 0, -9.80665));
+  EXPECT_EQ(session.markers.kind, MarkerKind::kBrightDots);
+  EXPECT_FALSE(session.markers.threshold.has_value());
+  EXPECT_FALSE(session.first_frame.has_value());
+  EXPECT_FALSE(session.last_frame.has_value());
+}
+
+TEST_F(SessionFileTest, ReadsARelativeSessionPath) {
+  // Runs from the folder above, and returns there whatever happens.
+  struct WorkingFolder {
+    explicit WorkingFolder(const fs::path& folder) : previous(fs::current_path()) {
+      fs::current_path(folder);
+    }
+    ~WorkingFolder() { fs::current_path(previous); }
+    fs::path previous;
+  };
+  WriteSession("");
+  const WorkingFolder working_folder(folder_.parent_path());
+  const Session session = ReadSessionYaml(folder_.filename() / "session.yaml");
+  EXPECT_EQ(session.clip, folder_.filename() / "clip.mp4");
+  EXPECT_EQ(session.body_file, folder_.filename() / "body.yaml");
+  // Written back beside it, the names are again relative to the session file.
+  WriteSessionYaml(session, folder_.filename() / "again.yaml");
+  EXPECT_EQ(Contents(folder_ / "again.yaml").rfind("clip: clip.mp4\n", 0), 0u);
+  const Session again = ReadSessionYaml(folder_.filename() / "again.yaml");
+  EXPECT_EQ(again.clip, session.clip);
+  EXPECT_EQ(again.camera_file, session.camera_file);
+}
+
+TEST_F(SessionFileTest, ReadsEveryOptionalSetting) {
+  const Session session =
+      ReadSessionYaml(WriteSession("gravity_mps2: [0, -9.81, 0]\n"
+                                   "markers: {kind: dark-dots, threshold: 40, min_area_px: 5, "
+                                   "max_area_px: 900}\n"
+                                   "frames: {first: 100, last: 450}\n"));
+  EXPECT_EQ(session.gravity.WorldVector(), Eigen::Vector3d(0, -9.81, 0));
+  EXPECT_EQ(session.markers.kind, MarkerKind::kDarkDots);
+  EXPECT_EQ(session.markers.threshold, 40.0);
+  EXPECT_EQ(session.markers.min_area_px, 5.0);
+  EXPECT_EQ(session.markers.max_area_px, 900.0);
+  EXPECT_EQ(session.first_frame, 100);
+  EXPECT_EQ(session.last_frame, 450);
+}
+
+TEST_F(SessionFileTest, GravityAsAMagnitude) {
+  const Session session = ReadSessionYaml(WriteSession("gravity_mps2: 9.81\n"));
+  EXPECT_FALSE(session.gravity.WorldVector().has_value());
+  EXPECT_EQ(session.gravity.Magnitude(), 9.81);
+}
+
+TEST_F(SessionFileTest, GravityFromAPlace) {
+  const Session session =
+      ReadSessionYaml(WriteSession("gravity: {latitude_deg: 45, elevation_m: 1000}\n"));
+  ASSERT_TRUE(session.gravity.WorldVector().has_value());
+  EXPECT_EQ(session.gravity.WorldVector()->z(), -NormalGravityWgs84(45.0, 1000.0));
+  const Session sea_level = ReadSessionYaml(WriteSession("gravity: {latitude_deg: 0}\n"));
+  EXPECT_NEAR(sea_level.gravity.Magnitude(), 9.7803253359, 1e-9);
+}
+
+TEST_F(SessionFileTest, BothGravityFormsAreRefused) {
+  EXPECT_EQ(ErrorReading("gravity_mps2: 9.81\ngravity: {latitude_deg: 45}\n"),
+            "session.yaml:6: key 'gravity': expected only one of gravity_mps2 and gravity (this "
+            "file has both), got '{latitude_deg: 45}'");
+}
+
+TEST_F(SessionFileTest, BadValuesAreNamed) {
+  EXPECT_EQ(ErrorReading("gravity_mps2: [0, 0]\n"),
+            "session.yaml:5: key 'gravity_mps2': expected a world-frame vector [x, y, z] in m/s^2, "
+            "or a positive magnitude in m/s^2, got '[0, 0]'");
+  EXPECT_EQ(ErrorReading("gravity: {latitude_deg: 95}\n"),
+            "session.yaml:5: key 'gravity.latitude_deg': expected a latitude in degrees, -90 to "
+            "90, got '95'");
+  EXPECT_EQ(ErrorReading("markers: {kind: green-dots}\n"),
+            "session.yaml:5: key 'markers.kind': expected bright-dots or dark-dots, got "
+            "'green-dots'");
+  EXPECT_EQ(ErrorReading("frames: {first: 10, last: 5}\n"),
+            "session.yaml:5: key 'frames.last': expected a frame number not before frames.first, "
+            "got '5'");
+  EXPECT_EQ(ErrorReading("markers: {colour: red}\n"),
+            "session.yaml:5: unknown key 'colour' in 'markers'; allowed: kind, max_area_px, "
+            "min_area_px, threshold");
+}
+
+TEST_F(SessionFileTest, CaptureRateMustBePositive) {
+  WriteText("session.yaml",
+            "clip: clip.mp4\ncapture_fps: 0\ncamera: cal/camera.yaml\nbody: body.yaml\n");
+  const std::string message = InputErrorOf([&] { ReadSessionYaml(folder_ / "session.yaml"); });
+  EXPECT_EQ(message, (folder_ / "session.yaml").string() +
+                         ":2: key 'capture_fps': expected a positive capture rate in frames per "
+                         "second, got '0'");
+}
+
+TEST_F(SessionFileTest, ErrorsInNamedFilesNameThoseFiles) {
+  WriteText("body.yaml", "units: cm\nmarkers: [{id: 1, at: [0, 0, 0]}]\n");
+  EXPECT_EQ(ErrorReading(""), "body.yaml:1: key 'units': expected 'mm' or 'm', got 'cm'");
+  fs::remove(folder_ / "cal" / "camera.yaml");
+  EXPECT_EQ(ErrorReading(""), "cal/camera.yaml: file not found");
+}
+
+TEST_F(SessionFileTest, WriteThenReadKeepsRelativeNames) {
+  Session session = ReadSessionYaml(
+      WriteSession("gravity: {latitude_deg: 47.5, elevation_m: 430}\n"
+                   "markers: {kind: dark-dots, threshold: 25}\nframes: {first: 3}\n"));
+  const fs::path copy = folder_ / "copy.yaml";
+  WriteSessionYaml(session, copy);
+  const std::string text = Contents(copy);
+  EXPECT_NE(text.find("clip: clip.mp4\n"), std::string::npos) << text;
+  EXPECT_NE(text.find("camera: cal/camera.yaml\n"), std::string::npos) << text;
+  const Session back = ReadSessionYaml(copy);
+  EXPECT_EQ(back.clip, session.clip);
+  EXPECT_EQ(back.camera_file, session.camera_file);
+  EXPECT_EQ(back.body_file, session.body_file);
+  EXPECT_EQ(back.capture_fps, session.capture_fps);
+  EXPECT_EQ(back.gravity.latitude_deg, 47.5);
+  EXPECT_EQ(back.gravity.elevation_m, 430.0);
+  EXPECT_EQ(back.markers.kind, MarkerKind::kDarkDots);
+  EXPECT_EQ(back.markers.threshold, 25.0);
+  EXPECT_EQ(back.first_frame, 3);
+  EXPECT_FALSE(back.last_frame.has_value());
+}
+
+TEST_F(SessionFileTest, WriteKeepsNamesGivenRelativeToTheSession) {
+  // As a writer that puts the files beside the session gives them: bare names.
+  Session session;
+  session.clip = "clip.mp4";
+  session.capture_fps = 2000.0;
+  session.camera_file = "camera.yaml";
+  session.body_file = "body.yaml";
+  session.gravity.magnitude_mps2 = 9.81;
+  fs::create_directories(folder_ / "out");
+  WriteSessionYaml(session, folder_ / "out" / "session.yaml");
+  const std::string text = Contents(folder_ / "out" / "session.yaml");
+  EXPECT_EQ(
+      text,
+      "clip: clip.mp4\ncapture_fps: 2000\ncamera: camera.yaml\nbody: body.yaml\n"
+      "gravity_mps2: 9.81\nmarkers: {kind: bright-dots, min_area_px: 3, max_area_px: 2000}\n");
+}
+
+TEST_F(SessionFileTest, WriteKeepsAbsoluteNamesOutsideTheFolder) {
+  Session session = ReadSessionYaml(WriteSession(""));
+  fs::create_directories(folder_ / "elsewhere");
+  WriteSessionYaml(session, folder_ / "elsewhere" / "session.yaml");
+  const Session back = ReadSessionYaml(folder_ / "elsewhere" / "session.yaml");
+  EXPECT_EQ(back.clip, session.clip);
+  EXPECT_EQ(back.camera_file, session.camera_file);
+  EXPECT_EQ(back.gravity.WorldVector(), Eigen::Vector3d(0, 0, -9.80665));
+}
+
+}  // namespace
+}  // namespace tumbletrace

@@ -1,0 +1,50 @@
+// Simulate a scenario and fit its tracks: the end-to-end recovery used by the fit tests.
+#pragma once
+
+#include <random>
+
+#include "tumbletrace/fit/free_flight_fit.hpp"
+#include "tumbletrace/fit/summary.hpp"
+#include "tumbletrace/sim/simulate.hpp"
+
+namespace tumbletrace::testing {
+
+struct Recovery {
+  Simulation sim;
+  FitResult fit;
+  FlightSummary summary;
+};
+
+inline FitOptions DefaultFitOptions(const Scenario& s) {
+  FitOptions o;
+  o.gravity_world_mps2 = s.gravity_world_mps2;
+  return o;
+}
+
+// Replaces `fraction` of the track points by gross outliers: 15-60 px away in a random
+// direction (a glint or a swapped marker), with a fixed seed.
+inline int CorruptTracks(std::vector<TrackPoint>* tracks, double fraction, std::uint64_t seed) {
+  std::mt19937_64 rng(seed);
+  std::uniform_real_distribution<double> unit(0.0, 1.0);
+  int n = 0;
+  for (TrackPoint& p : *tracks) {
+    if (unit(rng) >= fraction) continue;
+    const double angle = 2 * M_PI * unit(rng), distance = 15 + 45 * unit(rng);
+    p.x_px += distance * std::cos(angle);
+    p.y_px += distance * std::sin(angle);
+    ++n;
+  }
+  return n;
+}
+
+inline Recovery SimulateAndFit(const Scenario& s, const FitOptions& options,
+                               double outlier_fraction = 0.0) {
+  Recovery r;
+  r.sim = SimulateFlight(s);
+  if (outlier_fraction > 0) CorruptTracks(&r.sim.tracks, outlier_fraction, s.seed + 77);
+  r.fit = FitFreeFlight(GroupByFrame(r.sim.tracks, s.capture_fps), s.body, s.camera, options);
+  r.summary = Summarise(&r.fit, s.body);
+  return r;
+}
+
+}  // namespace tumbletrace::testing
