@@ -21,6 +21,7 @@ std::string FitOptions::Validate() const {
   if (!(outlier_threshold_sigma > 1)) return "outlier_threshold_sigma must exceed 1";
   if (min_markers_per_frame < 3) return "min_markers_per_frame must be at least 3";
   if (max_iterations < 1) return "max_iterations must be at least 1";
+  if (initial_pose_frames < 3) return "initial_pose_frames must be at least 3";
   if (!(gravity_world_mps2.norm() > 0)) return "gravity must be a non-zero vector (m/s^2)";
   if (first_frame && last_frame && *first_frame > *last_frame) {
     return "the first frame of the window comes after its last frame";
@@ -253,8 +254,13 @@ FitResult FitFreeFlight(const std::vector<FrameSightings>& frames, const Body& b
   // t0 at the middle frame of the window decouples position, velocity and acceleration.
   const double t0_s = window[window.size() / 2].time_s;
 
+  // The start needs poses from a few dozen frames spread over the window, not all of
+  // them: PnP dominates the cost of the fit otherwise.
+  std::vector<FrameSightings> sampled;
+  const size_t stride = std::max<size_t>(1, window.size() / options.initial_pose_frames);
+  for (size_t i = 0; i < window.size(); i += stride) sampled.push_back(window[i]);
   const std::vector<BodyPose> poses =
-      EstimateFramePoses(window, body, camera, options.min_markers_per_frame);
+      EstimateFramePoses(sampled, body, camera, options.min_markers_per_frame);
   FlightParameters initial = InitialiseFlight(poses, t0_s, options);
 
   FitResult result;
@@ -324,12 +330,18 @@ FitResult FitFreeFlight(const std::vector<FrameSightings>& frames, const Body& b
   result.rms_px = std::sqrt(sum_sq / (2.0 * n_inliers));
   result.sigma_px = std::sqrt(sum_sq / result.degrees_of_freedom);
 
-  // Covariance by Ceres: the Moore-Penrose inverse of J^T J in the tangent space (dense
-  // SVD, so that an unobservable direction does not stop it), scaled by s^2.
+  // Observability of the CM in the body frame.
+  result.cm = AnalyseCm(jacobian, gravity_fixed, result.sigma_px, std::max(LayoutSize(body), 1e-3),
+                        options);
+  // Covariance by Ceres: the Moore-Penrose inverse of J^T J in the tangent space, scaled
+  // by s^2. The dense SVD drops exactly as many of the smallest eigenvalues as the CM has
+  // unobservable directions (each is a gauge freedom of c with r0): inverting a
+  // numerically zero eigenvalue instead would leak an arbitrary variance into every
+  // parameter.
   ceres::Covariance::Options cov_options;
   cov_options.algorithm_type = ceres::DENSE_SVD;
-  cov_options.null_space_rank = -1;
-  cov_options.min_reciprocal_condition_number = 1e-14;
+  cov_options.null_space_rank = static_cast<int>(result.cm.unobservable_body.size());
+  cov_options.min_reciprocal_condition_number = 1e-20;
   cov_options.num_threads = 1;
   ceres::Covariance covariance(cov_options);
   std::vector<const double*> cov_blocks = {blocks.r0, blocks.v0, blocks.q0, blocks.w, blocks.c};
@@ -354,9 +366,6 @@ FitResult FitFreeFlight(const std::vector<FrameSightings>& frames, const Body& b
     result.covariance.block<3, 3>(offset.at(b), offset.at(a)) = s2 * block.transpose();
   }
 
-  // Observability of the CM in the body frame.
-  result.cm = AnalyseCm(jacobian, gravity_fixed, result.sigma_px, std::max(LayoutSize(body), 1e-3),
-                        options);
   const Eigen::Matrix3d projector = result.cm.covariance_m2;
   result.cm.covariance_m2 =
       projector * result.covariance.block<3, 3>(kCm, kCm) * projector.transpose();

@@ -32,6 +32,7 @@ struct FitOptions {
   double robust_loss_scale_px = 1.0;   // Huber scale of the first pass, px
   double outlier_threshold_sigma = 4.29;  // chi-square(2 dof) 0.9999 quantile, sqrt
   int min_markers_per_frame = 4;       // for the per-frame poses of the initialisation
+  int initial_pose_frames = 60;       // frames posed by PnP for the start, spread evenly
   int max_iterations = 200;
   // A CM direction is reported unobservable when its information is below this fraction
   // of the largest, or when its 1-sigma exceeds the size of the marker layout.

@@ -1,0 +1,330 @@
+// The command line end to end (../shared/CONTRACT.md): the real `tumbletrace` binary is run
+// on files written by the test, and its exit code, output files and messages are checked.
+#include <gtest/gtest.h>
+#include <sys/wait.h>
+#include <unistd.h>
+
+#include <cstdlib>
+#include <filesystem>
+#include <fstream>
+#include <nlohmann/json.hpp>
+#include <opencv2/videoio.hpp>
+#include <sstream>
+#include <string>
+#include <vector>
+
+namespace {
+
+namespace fs = std::filesystem;
+using nlohmann::json;
+
+// Invented test inputs: a 300 mm hammer-like tool (a wooden handle and a steel head) with
+// six flat dots on one face, mm units. The values describe no real product.
+constexpr const char* kBodyYaml = R"(units: mm
+markers:
+  - {id: 1, at: [20, 0, 14], diameter: 8, normal: [0, 0, 1]}
+  - {id: 2, at: [100, 0, 14], diameter: 8, normal: [0, 0, 1]}
+  - {id: 3, at: [180, 0, 14], diameter: 8, normal: [0, 0, 1]}
+  - {id: 4, at: [250, 0, 14], diameter: 8, normal: [0, 0, 1]}
+  - {id: 5, at: [285, 30, 11], diameter: 8, normal: [0, 0, 1]}
+  - {id: 6, at: [285, -30, 11], diameter: 8, normal: [0, 0, 1]}
+references:
+  grip_end: [0, 0, 0]
+  head_face: [300, 0, 0]
+parts:
+  - {shape: cylinder, name: handle, axis: x, from: [0, 0, 0], length: 270, diameter: 28, density_kgpm3: 700}
+  - {shape: box, name: head, center: [285, 0, 0], size: [30, 80, 22], density_kgpm3: 7850}
+)";
+
+// Invented camera: 3 m from the flight plane (world x-z, z up), facing it squarely.
+constexpr const char* kCameraYaml = R"(image_size: [1024, 768]
+fx: 1400.0
+fy: 1400.0
+cx: 511.5
+cy: 383.5
+distortion: [-0.08, 0.02, 0, 0, 0]
+world_to_camera:
+  rotation: [[1, 0, 0], [0, 0, -1], [0, 1, 0]]
+  translation_m: [0, 0, 3.0]
+)";
+
+// A small invented camera for the video case (even sizes, as the H.264 writer requires).
+constexpr const char* kSmallCameraYaml = R"(image_size: [320, 240]
+fx: 400.0
+fy: 400.0
+cx: 159.5
+cy: 119.5
+distortion: [0, 0, 0, 0, 0]
+world_to_camera:
+  rotation: [[1, 0, 0], [0, 0, -1], [0, 1, 0]]
+  translation_m: [0, 0, 3.0]
+)";
+
+// An invented throw: 5 rev/s about body z (turned to world -y), fixed seed.
+std::string ScenarioYaml(int frames, bool video, const std::string& camera = "camera.yaml") {
+  std::ostringstream out;
+  out << "body: body.yaml\n"
+      << "camera: " << camera << "\n"
+      << "capture_fps: 1000\n"
+      << "frames: " << frames << "\n"
+      << "gravity_mps2: [0, 0, -9.80665]\n"
+      << "launch:\n"
+      << "  position_m: [-0.4, 0, -0.15]\n"
+      << "  velocity_mps: [3.0, 0, 2.5]\n"
+      << "  orientation: {axis: [1, 0, 0], angle_deg: 90}\n"
+      << "spin: {axis_body: [0, 0, 1], rate_rev_per_s: 5}\n"
+      << "noise: {tracks_sigma_px: 0.2, seed: 7}\n"
+      << "video: {write: " << (video ? "true" : "false") << ", supersampling: 2}\n";
+  return out.str();
+}
+
+struct RunResult {
+  int exit_code = -1;
+  std::string out;
+  std::string err;
+};
+
+std::string ReadText(const fs::path& path) {
+  std::ifstream in(path, std::ios::binary);
+  std::ostringstream out;
+  out << in.rdbuf();
+  return out.str();
+}
+
+std::vector<std::string> Lines(const std::string& text) {
+  std::vector<std::string> lines;
+  std::istringstream in(text);
+  std::string line;
+  while (std::getline(in, line)) lines.push_back(line);
+  return lines;
+}
+
+// A fresh working folder per test holding body.yaml, camera.yaml and the scenario files;
+// the binary runs with it as the current folder. Removed afterwards.
+class CliTest : public ::testing::Test {
+ protected:
+  void SetUp() override {
+    const auto* info = ::testing::UnitTest::GetInstance()->current_test_info();
+    folder_ = fs::temp_directory_path() /
+              ("tumbletrace_cli_" + std::string(info->name()) + "_" + std::to_string(getpid()));
+    fs::remove_all(folder_);
+    fs::create_directories(folder_);
+    Write("body.yaml", kBodyYaml);
+    Write("camera.yaml", kCameraYaml);
+  }
+  void TearDown() override { fs::remove_all(folder_); }
+
+  fs::path Path(const std::string& name) const { return folder_ / name; }
+
+  void Write(const std::string& name, const std::string& text) const {
+    std::ofstream(folder_ / name, std::ios::binary) << text;
+  }
+
+  // Runs `tumbletrace ARGS` in the working folder, capturing stdout and stderr.
+  RunResult Run(const std::string& args) const {
+    const fs::path out = folder_ / "cli_stdout.txt", err = folder_ / "cli_stderr.txt";
+    const std::string command = "cd '" + folder_.string() + "' && '" TUMBLETRACE_BINARY "' " +
+                                args + " >'" + out.string() + "' 2>'" + err.string() + "'";
+    const int status = std::system(command.c_str());
+    RunResult r;
+    r.exit_code = (status != -1 && WIFEXITED(status)) ? WEXITSTATUS(status) : -1;
+    r.out = ReadText(out);
+    r.err = ReadText(err);
+    return r;
+  }
+
+  // Simulates `frames` frames without video into sim/.
+  void SimulateInto(int frames) const {
+    Write("scenario.yaml", ScenarioYaml(frames, false));
+    const RunResult r = Run("simulate scenario.yaml -o sim --no-video");
+    ASSERT_EQ(r.exit_code, 0) << r.err;
+  }
+
+  fs::path folder_;
+};
+
+// ---- simulate ---------------------------------------------------------------------------
+
+TEST_F(CliTest, SimulateWithoutVideoWritesEveryFileButTheClip) {
+  Write("scenario.yaml", ScenarioYaml(100, true));
+  const RunResult r = Run("simulate scenario.yaml -o sim --no-video");
+  ASSERT_EQ(r.exit_code, 0) << r.err;
+  for (const char* name :
+       {"session.yaml", "camera.yaml", "body.yaml", "truth.json", "tracks.csv"}) {
+    EXPECT_TRUE(fs::is_regular_file(Path("sim") / name)) << name;
+  }
+  EXPECT_FALSE(fs::exists(Path("sim/clip.mp4")));
+  const json truth = json::parse(ReadText(Path("sim/truth.json")));
+  ASSERT_TRUE(truth.at("cm").at("body_m").is_array());
+  EXPECT_EQ(truth.at("frames").size(), 100u);
+  const std::vector<std::string> tracks = Lines(ReadText(Path("sim/tracks.csv")));
+  ASSERT_FALSE(tracks.empty());
+  EXPECT_EQ(tracks[0], "frame,time_s,track,marker,x_px,y_px,quality");
+  EXPECT_EQ(tracks.size(), 1u + 100u * 6u);  // every marker seen in every frame
+}
+
+TEST_F(CliTest, SimulateWithVideoWritesAClipOpenCvReadsFrameByFrame) {
+  Write("small_camera.yaml", kSmallCameraYaml);
+  Write("scenario.yaml", ScenarioYaml(20, true, "small_camera.yaml"));
+  const RunResult r = Run("simulate scenario.yaml -o sim");
+  ASSERT_EQ(r.exit_code, 0) << r.err;
+  ASSERT_TRUE(fs::is_regular_file(Path("sim/clip.mp4")));
+  cv::VideoCapture capture(Path("sim/clip.mp4").string());
+  ASSERT_TRUE(capture.isOpened());
+  int frames = 0;
+  cv::Mat image;
+  while (capture.read(image)) {
+    EXPECT_EQ(image.cols, 320);
+    EXPECT_EQ(image.rows, 240);
+    ++frames;
+  }
+  EXPECT_EQ(frames, 20);
+}
+
+// ---- fit --------------------------------------------------------------------------------
+
+TEST_F(CliTest, FitOfSimulatedTracksRecoversTheCmAndWritesItsFiles) {
+  ASSERT_NO_FATAL_FAILURE(SimulateInto(150));
+  const RunResult r = Run("fit sim/session.yaml --tracks sim/tracks.csv -o out");
+  ASSERT_EQ(r.exit_code, 0) << r.err;
+  for (const char* name : {"results.json", "frames.csv", "residuals.csv"}) {
+    EXPECT_TRUE(fs::is_regular_file(Path("out") / name)) << name;
+  }
+  const json results = json::parse(ReadText(Path("out/results.json")));
+  const json truth = json::parse(ReadText(Path("sim/truth.json")));
+  ASSERT_TRUE(results.at("cm").at("body_m").at(0).is_number());
+  EXPECT_NEAR(results["cm"]["body_m"][0].get<double>(),
+              truth.at("cm").at("body_m").at(0).get<double>(), 1e-3);
+  EXPECT_NE(r.out.find("mm"), std::string::npos) << r.out;
+  EXPECT_NE(r.out.find("rev/s"), std::string::npos) << r.out;
+}
+
+// ---- bad input: exit 2, the message names the file and the key ------------------------
+
+TEST_F(CliTest, SessionWithAnUnknownKeyIsBadInputNamingTheKey) {
+  ASSERT_NO_FATAL_FAILURE(SimulateInto(20));
+  Write("sim/odd_session.yaml", ReadText(Path("sim/session.yaml")) + "colour: red\n");
+  const RunResult r = Run("fit sim/odd_session.yaml --tracks sim/tracks.csv -o out");
+  EXPECT_EQ(r.exit_code, 2) << r.err;
+  EXPECT_NE(r.err.find("odd_session.yaml"), std::string::npos) << r.err;
+  EXPECT_NE(r.err.find("colour"), std::string::npos) << r.err;
+  EXPECT_FALSE(fs::exists(Path("out/results.json")));
+}
+
+TEST_F(CliTest, CameraWithATextFocalLengthIsBadInputNamingTheKey) {
+  ASSERT_NO_FATAL_FAILURE(SimulateInto(20));
+  std::string camera = kCameraYaml;
+  camera.replace(camera.find("fx: 1400.0"), 10, "fx: abc");
+  Write("sim/bad_camera.yaml", camera);
+  std::string session = ReadText(Path("sim/session.yaml"));
+  session.replace(session.find("camera: camera.yaml"), 19, "camera: bad_camera.yaml");
+  Write("sim/bad_camera_session.yaml", session);
+  const RunResult r = Run("fit sim/bad_camera_session.yaml --tracks sim/tracks.csv -o out");
+  EXPECT_EQ(r.exit_code, 2) << r.err;
+  EXPECT_NE(r.err.find("bad_camera.yaml"), std::string::npos) << r.err;
+  EXPECT_NE(r.err.find("fx"), std::string::npos) << r.err;
+  EXPECT_FALSE(fs::exists(Path("out/results.json")));
+}
+
+TEST_F(CliTest, MissingTracksFileIsRefusedByTheArgumentCheck) {
+  ASSERT_NO_FATAL_FAILURE(SimulateInto(20));
+  const RunResult r = Run("fit sim/session.yaml --tracks sim/no_such_tracks.csv -o out");
+  EXPECT_EQ(r.exit_code, 2) << r.err;
+  EXPECT_NE(r.err.find("no_such_tracks.csv"), std::string::npos) << r.err;
+  EXPECT_NE(r.err.find("--tracks"), std::string::npos) << r.err;
+  EXPECT_FALSE(fs::exists(Path("out/results.json")));
+}
+
+TEST_F(CliTest, TracksWithAMalformedRowAreBadInputNamingTheLineAndColumnAndLeftUntouched) {
+  ASSERT_NO_FATAL_FAILURE(SimulateInto(20));
+  std::vector<std::string> lines = Lines(ReadText(Path("sim/tracks.csv")));
+  ASSERT_GT(lines.size(), 3u);
+  // Line 3 (the second data row): its time_s becomes text.
+  const size_t first_comma = lines[2].find(',');
+  const size_t second_comma = lines[2].find(',', first_comma + 1);
+  lines[2].replace(first_comma + 1, second_comma - first_comma - 1, "soon");
+  std::string text;
+  for (const std::string& line : lines) text += line + "\n";
+  Write("sim/bad_tracks.csv", text);
+
+  const RunResult r = Run("fit sim/session.yaml --tracks sim/bad_tracks.csv -o out");
+  EXPECT_EQ(r.exit_code, 2) << r.err;
+  EXPECT_NE(r.err.find("bad_tracks.csv:3"), std::string::npos) << r.err;
+  EXPECT_NE(r.err.find("time_s"), std::string::npos) << r.err;
+  EXPECT_FALSE(fs::exists(Path("out/results.json")));
+  EXPECT_EQ(ReadText(Path("sim/bad_tracks.csv")), text);  // inputs are never touched
+}
+
+// Marker 99 is not in body.yaml: bad input, and by the contract the message names the file
+// (here it names only "tracks", see the report of this test suite).
+TEST_F(CliTest, TracksNamingAMarkerTheBodyLacksAreBadInputNamingTheTracksFile) {
+  ASSERT_NO_FATAL_FAILURE(SimulateInto(20));
+  std::vector<std::string> lines = Lines(ReadText(Path("sim/tracks.csv")));
+  ASSERT_GT(lines.size(), 2u);
+  // Line 2: frame 0, track 1, marker 1 -> marker 99.
+  ASSERT_EQ(lines[1].rfind("0,0,1,1,", 0), 0u) << lines[1];
+  lines[1].replace(0, 8, "0,0,1,99,");
+  std::string text;
+  for (const std::string& line : lines) text += line + "\n";
+  Write("sim/unknown_marker_tracks.csv", text);
+
+  const RunResult r = Run("fit sim/session.yaml --tracks sim/unknown_marker_tracks.csv -o out");
+  EXPECT_EQ(r.exit_code, 2) << r.err;
+  EXPECT_NE(r.err.find("99"), std::string::npos) << r.err;
+  EXPECT_NE(r.err.find("unknown_marker_tracks.csv"), std::string::npos)
+      << "CONTRACT: a bad-input message names the file; got: " << r.err;
+  EXPECT_FALSE(fs::exists(Path("out/results.json")));
+}
+
+// ---- data that cannot carry a fit: exit 3 ----------------------------------------------
+
+TEST_F(CliTest, TracksOfOnlyTwoFramesDoNotSupportAFit) {
+  ASSERT_NO_FATAL_FAILURE(SimulateInto(20));
+  std::string text;
+  for (const std::string& line : Lines(ReadText(Path("sim/tracks.csv")))) {
+    if (line.rfind("frame,", 0) == 0 || line.rfind("0,", 0) == 0 || line.rfind("1,", 0) == 0) {
+      text += line + "\n";
+    }
+  }
+  ASSERT_EQ(Lines(text).size(), 1u + 2u * 6u);
+  Write("sim/two_frames.csv", text);
+  const RunResult r = Run("fit sim/session.yaml --tracks sim/two_frames.csv -o out");
+  EXPECT_EQ(r.exit_code, 3) << r.err;
+  EXPECT_NE(r.err.find("frames"), std::string::npos) << r.err;  // the reason
+  EXPECT_FALSE(fs::exists(Path("out/results.json")));
+}
+
+// ---- help and quiet ---------------------------------------------------------------------
+
+TEST_F(CliTest, HelpOfTheProgramAndEachCommandSaysWhatItWrites) {
+  struct Case {
+    std::string args;
+    std::vector<std::string> mentions;
+  };
+  const std::vector<Case> cases = {
+      {"--help", {"simulate", "fit", "results.json", "truth.json", "Exit codes"}},
+      {"simulate --help", {"clip.mp4", "session.yaml", "truth.json", "tracks.csv", "--no-video"}},
+      {"fit --help", {"results.json", "frames.csv", "residuals.csv", "--tracks"}},
+  };
+  for (const Case& c : cases) {
+    const RunResult r = Run(c.args);
+    EXPECT_EQ(r.exit_code, 0) << c.args << ": " << r.err;
+    for (const std::string& word : c.mentions) {
+      EXPECT_NE(r.out.find(word), std::string::npos) << c.args << " lacks '" << word << "':\n"
+                                                     << r.out;
+    }
+  }
+}
+
+TEST_F(CliTest, QuietSimulateAndFitPrintNothingOnStdout) {
+  Write("scenario.yaml", ScenarioYaml(100, false));
+  const RunResult sim = Run("simulate scenario.yaml -o sim -q");
+  ASSERT_EQ(sim.exit_code, 0) << sim.err;
+  EXPECT_EQ(sim.out, "");
+  const RunResult fit = Run("fit sim/session.yaml --tracks sim/tracks.csv -o out -q");
+  ASSERT_EQ(fit.exit_code, 0) << fit.err;
+  EXPECT_EQ(fit.out, "");
+  EXPECT_TRUE(fs::is_regular_file(Path("out/results.json")));
+}
+
+}  // namespace
