@@ -53,6 +53,13 @@ int RunSimulate(const SimulateOptions& options, const CommonOptions& common) {
 int RunFit(const FitCommandOptions& options, const CommonOptions& common) {
   const Session session = ReadSessionYaml(options.session);
   const std::vector<TrackPoint> tracks = ReadTracksCsv(options.tracks);
+  for (size_t i = 0; i < tracks.size(); ++i) {
+    if (tracks[i].marker && session.body.FindMarker(*tracks[i].marker) == nullptr) {
+      throw InputError(fmt::format("{}:{}: column 'marker': marker {} is not defined in {}",
+                                   options.tracks.string(), tracks[i].source_line, *tracks[i].marker,
+                                   session.body_file.string()));
+    }
+  }
   FitOptions fit_options;
   const std::optional<Eigen::Vector3d> g = session.gravity.WorldVector();
   if (!g || !session.camera.camera_from_world) {
@@ -83,7 +90,11 @@ int RunFit(const FitCommandOptions& options, const CommonOptions& common) {
   WriteResidualsCsv(fit, options.out_dir / "residuals.csv");
   // results.json last: its presence says the run completed.
   WriteResultsJson(ResultsJson(fit, summary, provenance), options.out_dir / "results.json");
-  if (!common.quiet) std::cout << SummaryText(fit, summary);
+  if (!common.quiet) {
+    std::cout << SummaryText(fit, summary);
+  } else {
+    for (const std::string& w : fit.warnings) std::cerr << "warning: " << w << "\n";
+  }
   return 0;
 }
 

@@ -108,6 +108,7 @@ std::vector<TrackPoint> ReadTracksCsv(const std::filesystem::path& path) {
     if (Trim(line).empty()) continue;
     const Row row(label, line_number, line);
     TrackPoint point;
+    point.source_line = line_number;
     point.frame = row.Integer(0, 0);
     point.time_s = row.Number(1);
     point.track = row.Integer(2, 0);

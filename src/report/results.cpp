@@ -181,8 +181,12 @@ std::string SummaryText(const FitResult& fit, const FlightSummary& s) {
   out << "CM in the body frame (mm, +/- 1 sigma):\n";
   const char* axes = "xyz";
   for (int i = 0; i < 3; ++i) {
-    out << fmt::format("  {}: {:>10} +/- {}\n", axes[i], Num(s.cm_body_m[i], 1e3, 2),
-                       Num(s.cm_sigma_m[i], 1e3, 2));
+    if (s.cm_body_m[i] && s.cm_sigma_m[i]) {
+      out << fmt::format("  {}: {:>9} +/- {} mm\n", axes[i], Num(s.cm_body_m[i], 1e3, 3),
+                         Num(s.cm_sigma_m[i], 1e3, 3));
+    } else {
+      out << fmt::format("  {}: undetermined by this throw (see the warning)\n", axes[i]);
+    }
   }
   if (s.design_cm_body_m) {
     const Eigen::Vector3d& d = *s.design_cm_body_m;
@@ -195,8 +199,8 @@ std::string SummaryText(const FitResult& fit, const FlightSummary& s) {
                          1e3 * r.sigma_distance_m.value_or(0.0));
     }
   }
-  out << fmt::format("Launch (frame {}, t = {:.4f} s): speed {:.4f} +/- {:.4f} m/s at {:.2f} "
-                     "+/- {:.2f} deg above horizontal\n",
+  out << fmt::format("Launch (frame {}, t = {:.4f} s): speed {:.4f} +/- {:.4f} m/s at {:.3f} "
+                     "+/- {:.3f} deg above horizontal\n",
                      s.launch_frame, s.launch_time_s, s.launch_speed_mps,
                      s.launch_sigma_speed_mps, s.launch_angle_deg, s.launch_sigma_angle_deg);
   out << fmt::format("Spin: {:.4f} +/- {:.4f} rev/s ({:.1f} rpm)\n", s.rate_rev_per_s,
