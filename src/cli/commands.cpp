@@ -77,7 +77,7 @@ int RunFit(const FitCommandOptions& options, const CommonOptions& common) {
 
   FitResult fit = FitFreeFlight(GroupByFrame(tracks, session.capture_fps), session.body,
                                 session.camera, fit_options);
-  const FlightSummary summary = Summarise(&fit, session.body);
+  const FlightSummary summary = Summarise(fit, session.body);
   Provenance provenance;
   provenance.tool_version = TUMBLETRACE_VERSION;
   provenance.command = common.command_line;

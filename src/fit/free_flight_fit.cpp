@@ -317,7 +317,7 @@ FitResult FitFreeFlight(const std::vector<FrameSightings>& frames, const Body& b
     }
   }
   const bool gravity_fixed = options.gravity_mode == GravityMode::kFixed;
-  const Eigen::MatrixXd jacobian = DenseJacobian(problem.get(), &blocks, gravity_fixed);
+  Eigen::MatrixXd jacobian = DenseJacobian(problem.get(), &blocks, gravity_fixed);
   // Parameters actually determined: tangent size less the fixed and the null directions.
   Eigen::JacobiSVD<Eigen::MatrixXd> svd(jacobian);
   const Eigen::VectorXd sv = svd.singularValues();
@@ -331,8 +331,26 @@ FitResult FitFreeFlight(const std::vector<FrameSightings>& frames, const Body& b
   result.sigma_px = std::sqrt(sum_sq / result.degrees_of_freedom);
 
   // Observability of the CM in the body frame.
-  result.cm = AnalyseCm(jacobian, gravity_fixed, result.sigma_px, std::max(LayoutSize(body), 1e-3),
-                        options);
+  const double layout_size_m = std::max(LayoutSize(body), 1e-3);
+  result.cm = AnalyseCm(jacobian, gravity_fixed, result.sigma_px, layout_size_m, options);
+  if (!result.cm.unobservable_body.empty()) {
+    // Fix the gauge at the representative of the CM line nearest the body origin, and take
+    // the covariance there. The in-plane part of c is only determined perpendicular to the
+    // fitted spin axis, whose direction is itself uncertain: elsewhere on the line, the
+    // axis's uncertainty times the distance along it would be added to the in-plane
+    // components (the Jacobian of a tilt then carries a lever of that distance).
+    // x = r + R (m - c): c <- c - a u with r0 <- r0 - a R0 u changes no prediction.
+    for (const Eigen::Vector3d& u : result.cm.unobservable_body) {
+      FlightParameters p = blocks.ToParameters(t0_s);
+      const double a = u.dot(p.cm_body_m);
+      p.cm_body_m -= a * u;
+      p.r0_world_m -= a * (p.WorldFromBodyAt(t0_s) * u);
+      blocks = ParameterBlocks(p);
+    }
+    jacobian = DenseJacobian(problem.get(), &blocks, gravity_fixed);
+    result.cm = AnalyseCm(jacobian, gravity_fixed, result.sigma_px, layout_size_m, options);
+    result.parameters = blocks.ToParameters(t0_s);
+  }
   // Covariance by Ceres: the Moore-Penrose inverse of J^T J in the tangent space, scaled
   // by s^2. The dense SVD drops exactly as many of the smallest eigenvalues as the CM has
   // unobservable directions (each is a gauge freedom of c with r0): inverting a
@@ -375,8 +393,11 @@ FitResult FitFreeFlight(const std::vector<FrameSightings>& frames, const Body& b
         "The CM is not determined along the body direction [{:.3f}, {:.3f}, {:.3f}]: the body "
         "spun about an axis fixed in space (world direction [{:.3f}, {:.3f}, {:.3f}]), so a "
         "shift of the CM along that axis moves every marker by the same constant offset, "
-        "which the CM path absorbs. That component is reported as null. A throw that spins "
-        "the body about another axis, or one that tumbles it, determines it.",
+        "which the CM path absorbs. That component is reported as null; the others are those "
+        "of the point of that line nearest the body origin (if the CM lies a distance s from "
+        "it along the line, they shift by s times the small uncertainty of the axis's "
+        "direction). A throw that spins the body about another axis, or one that tumbles "
+        "it, determines the missing component.",
         u.x(), u.y(), u.z(), axis_world.x(), axis_world.y(), axis_world.z()));
   }
   if (!result.converged) {

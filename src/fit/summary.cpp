@@ -50,23 +50,16 @@ FlightParameters Perturb(const FlightParameters& p, const Tangent& d) {
   return out;
 }
 
-FlightSummary Summarise(FitResult* fit, const Body& body) {
+FlightSummary Summarise(const FitResult& fit, const Body& body) {
   FlightSummary s;
-  FlightParameters& p = fit->parameters;
-  const std::vector<Eigen::Vector3d>& null_body = fit->cm.unobservable_body;
+  const FlightParameters& p = fit.parameters;
+  const std::vector<Eigen::Vector3d>& null_body = fit.cm.unobservable_body;
 
-  // The representative of the undetermined CM: drop its components along the null
-  // directions and move r0 so that every marker's predicted position stays the same
-  // (x = r + R (m - c): changing c by -a u needs r0 changed by -a R0 u).
-  for (const Eigen::Vector3d& u : null_body) {
-    const double a = u.dot(p.cm_body_m);
-    p.cm_body_m -= a * u;
-    p.r0_world_m -= a * (p.WorldFromBodyAt(p.t0_s) * u);
-  }
+  // The fit returns the representative of an undetermined CM nearest the body origin.
   s.cm_line_point_body_m = p.cm_body_m;
   s.cm_unobservable_body = null_body;
 
-  const Eigen::Matrix3d& cov_c = fit->cm.covariance_m2;
+  const Eigen::Matrix3d& cov_c = fit.cm.covariance_m2;
   for (int i = 0; i < 3; ++i) {
     const bool open_i = AxisUndetermined(Eigen::Vector3d::Unit(i), null_body);
     if (!open_i) {
@@ -101,17 +94,17 @@ FlightSummary Summarise(FitResult* fit, const Body& body) {
   }
 
   // Launch state at the first frame of the window.
-  s.launch_frame = fit->first_frame;
-  const double t_launch = fit->residuals.empty() ? p.t0_s : fit->residuals.front().time_s;
+  s.launch_frame = fit.first_frame;
+  const double t_launch = fit.residuals.empty() ? p.t0_s : fit.residuals.front().time_s;
   s.launch_time_s = t_launch;
-  for (const ResidualRecord& r : fit->residuals) {
-    if (r.frame == fit->first_frame) {
+  for (const ResidualRecord& r : fit.residuals) {
+    if (r.frame == fit.first_frame) {
       s.launch_time_s = r.time_s;
       break;
     }
   }
   const double tl = s.launch_time_s;
-  const Eigen::MatrixXd& cov = fit->covariance;
+  const Eigen::MatrixXd& cov = fit.covariance;
   const Eigen::Vector3d position = p.PositionAt(tl);
   const Eigen::Matrix3d world_from_body = p.WorldFromBodyAt(tl);
   for (int i = 0; i < 3; ++i) {

@@ -43,7 +43,7 @@ inline Recovery SimulateAndFit(const Scenario& s, const FitOptions& options,
   r.sim = SimulateFlight(s);
   if (outlier_fraction > 0) CorruptTracks(&r.sim.tracks, outlier_fraction, s.seed + 77);
   r.fit = FitFreeFlight(GroupByFrame(r.sim.tracks, s.capture_fps), s.body, s.camera, options);
-  r.summary = Summarise(&r.fit, s.body);
+  r.summary = Summarise(r.fit, s.body);
   return r;
 }
 

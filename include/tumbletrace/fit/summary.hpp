@@ -71,9 +71,8 @@ struct FlightSummary {
   std::optional<Eigen::Vector3d> sigma_gravity_mps2;  // when estimated
 };
 
-// Moves the fitted parameters to the representative of the CM line nearest the body
-// origin (changing no prediction) and derives the summary.
-FlightSummary Summarise(FitResult* fit, const Body& body);
+// Derives the summary of a fit.
+FlightSummary Summarise(const FitResult& fit, const Body& body);
 
 // Tangent-space perturbation of the parameters, in CovarianceBlock order (q0 by Ceres'
 // QuaternionManifold: q <- [cos|d|, sin|d| d/|d|] (x) q).
