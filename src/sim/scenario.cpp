@@ -91,6 +91,9 @@ Scenario ReadScenarioYaml(const std::filesystem::path& path) {
   if (root.Has("video")) {
     YamlMap v = root.Map("video");
     s.video.write = v.OptionalBoolean("write").value_or(true);
+    const std::string format = v.OptionalString("format", "mp4 or png").value_or("mp4");
+    if (format != "mp4" && format != "png") v.Fail("format", "mp4 (H.264 video) or png (an image folder)");
+    s.video.image_folder = format == "png";
     s.video.playback_fps = v.OptionalNumber("playback_fps", "frames/s").value_or(30.0);
     s.video.exposure_samples = v.OptionalInteger("exposure_samples").value_or(8);
     s.video.supersampling = v.OptionalInteger("supersampling").value_or(4);

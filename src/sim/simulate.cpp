@@ -5,6 +5,7 @@
 #include <cmath>
 #include <fstream>
 #include <nlohmann/json.hpp>
+#include <opencv2/imgcodecs.hpp>
 #include <opencv2/imgproc.hpp>
 #include <random>
 
@@ -247,6 +248,29 @@ RigidState StateAt(const Simulation& sim, double t_s) {
   return MakeIntegrator(sim.scenario, sim.mass).Advance(sim.frames[k].state, t_s - k / fps);
 }
 
+cv::Mat RenderSimulatedFrame(const Simulation& sim, int frame) {
+  const Scenario& s = sim.scenario;
+  RenderSettings render;
+  render.width_px = s.camera.intrinsics.width_px;
+  render.height_px = s.camera.intrinsics.height_px;
+  render.background_level = s.video.background_level;
+  render.body_level = s.video.body_level;
+  render.dot_level = s.video.dot_level;
+  render.supersampling = s.video.supersampling;
+  render.noise_sigma_levels = s.image_sigma_levels;
+  render.noise_seed = s.seed * 1000003ULL + static_cast<std::uint64_t>(frame);
+  const RigidBodyIntegrator integrator = MakeIntegrator(s, sim.mass);
+  const int samples = s.exposure_s > 0 ? s.video.exposure_samples : 1;
+  const FrameTruth& f = sim.frames.at(frame);
+  std::vector<SceneInstant> exposure;
+  for (int j = 0; j < samples; ++j) {
+    // The exposure is centred on the frame time.
+    const double offset_s = samples > 1 ? s.exposure_s * ((j + 0.5) / samples - 0.5) : 0.0;
+    exposure.push_back(ProjectScene(sim, integrator.Advance(f.state, offset_s)));
+  }
+  return RenderFrame(exposure, render);
+}
+
 void WriteSimulation(const Simulation& sim, const std::filesystem::path& dir,
                      const std::function<void(int done, int total)>& progress) {
   const Scenario& s = sim.scenario;
@@ -254,7 +278,7 @@ void WriteSimulation(const Simulation& sim, const std::filesystem::path& dir,
   WriteCameraYaml(s.camera, dir / "camera.yaml");
   WriteBodyYaml(s.body, dir / "body.yaml");
   Session session;
-  session.clip = dir / "clip.mp4";
+  session.clip = s.video.image_folder ? dir / "frames" : dir / "clip.mp4";
   session.capture_fps = s.capture_fps;
   session.camera_file = dir / "camera.yaml";
   session.body_file = dir / "body.yaml";
@@ -265,28 +289,27 @@ void WriteSimulation(const Simulation& sim, const std::filesystem::path& dir,
                       [&](std::ostream& out) { out << TruthJson(sim).dump(2) << "\n"; });
   if (!s.video.write) return;
 
-  RenderSettings render;
-  render.width_px = s.camera.intrinsics.width_px;
-  render.height_px = s.camera.intrinsics.height_px;
-  render.background_level = s.video.background_level;
-  render.body_level = s.video.body_level;
-  render.dot_level = s.video.dot_level;
-  render.supersampling = s.video.supersampling;
-  render.noise_sigma_levels = s.image_sigma_levels;
-  const RigidBodyIntegrator integrator = MakeIntegrator(s, sim.mass);
-  const int samples = s.exposure_s > 0 ? s.video.exposure_samples : 1;
-  WritePathAtomically(dir / "clip.mp4", [&](const std::filesystem::path& tmp) {
-    VideoWriter writer(tmp, cv::Size(render.width_px, render.height_px), s.video.playback_fps);
+  const cv::Size size(s.camera.intrinsics.width_px, s.camera.intrinsics.height_px);
+  const int total = static_cast<int>(sim.frames.size());
+  if (s.video.image_folder) {
+    // Lossless frames, numbered by frame: frames/frame_000123.png.
+    std::filesystem::create_directories(dir / "frames");
     for (const FrameTruth& f : sim.frames) {
-      std::vector<SceneInstant> exposure;
-      for (int j = 0; j < samples; ++j) {
-        // The exposure is centred on the frame time.
-        const double offset_s = samples > 1 ? s.exposure_s * ((j + 0.5) / samples - 0.5) : 0.0;
-        exposure.push_back(ProjectScene(sim, integrator.Advance(f.state, offset_s)));
-      }
-      render.noise_seed = s.seed * 1000003ULL + static_cast<std::uint64_t>(f.frame);
-      writer.Write(RenderFrame(exposure, render));
-      if (progress) progress(f.frame + 1, static_cast<int>(sim.frames.size()));
+      const std::filesystem::path path = dir / "frames" / fmt::format("frame_{:06d}.png", f.frame);
+      WritePathAtomically(path, [&](const std::filesystem::path& tmp) {
+        if (!cv::imwrite(tmp.string(), RenderSimulatedFrame(sim, f.frame))) {
+          throw InputError(path.string() + ": could not be written");
+        }
+      });
+      if (progress) progress(f.frame + 1, total);
+    }
+    return;
+  }
+  WritePathAtomically(dir / "clip.mp4", [&](const std::filesystem::path& tmp) {
+    VideoWriter writer(tmp, size, s.video.playback_fps);
+    for (const FrameTruth& f : sim.frames) {
+      writer.Write(RenderSimulatedFrame(sim, f.frame));
+      if (progress) progress(f.frame + 1, total);
     }
     writer.Close();
   });

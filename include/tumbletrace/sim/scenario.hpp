@@ -16,7 +16,7 @@
 //   spin: {axis_body: principal-3, rate_rev_per_s: 6}   # or axis_body: [x, y, z];
 //                                                       # or omega_body_radps: [x, y, z]
 //   noise: {tracks_sigma_px: 0.2, image_sigma_levels: 2.0, seed: 1}
-//   video: {write: true, playback_fps: 30, exposure_samples: 8, supersampling: 4,
+//   video: {write: true, format: mp4, playback_fps: 30, exposure_samples: 8, supersampling: 4,
 //           background_level: 40, body_level: 70, dot_level: 230}
 #pragma once
 
@@ -32,6 +32,7 @@ namespace tumbletrace {
 
 struct VideoSettings {
   bool write = true;
+  bool image_folder = false;    // true: frames/frame_000000.png (lossless); false: clip.mp4
   double playback_fps = 30.0;   // the rate written into clip.mp4 (not the capture rate)
   int exposure_samples = 8;     // instants averaged over the exposure when exposure_s > 0
   int supersampling = 4;

@@ -5,6 +5,7 @@
 
 #include <filesystem>
 #include <functional>
+#include <opencv2/core.hpp>
 #include <vector>
 
 #include "tumbletrace/model/mass_properties.hpp"
@@ -40,6 +41,10 @@ Simulation SimulateFlight(const Scenario& scenario);
 
 // The state of the body at any time t_s (>= 0) of the simulated flight.
 RigidState StateAt(const Simulation& sim, double t_s);
+
+// Renders frame `frame` of the simulated clip (8-bit grey, blur and noise as the scenario
+// says), exactly as WriteSimulation writes it before compression.
+cv::Mat RenderSimulatedFrame(const Simulation& sim, int frame);
 
 // Writes clip.mp4 (when the scenario asks for video), session.yaml, camera.yaml,
 // body.yaml, truth.json and tracks.csv into `dir` (created when missing). `progress`
