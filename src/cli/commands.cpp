@@ -11,6 +11,7 @@
 #include "tumbletrace/fit/summary.hpp"
 #include "tumbletrace/model/session.hpp"
 #include "tumbletrace/model/tracks.hpp"
+#include "tumbletrace/pipeline/pipeline.hpp"
 #include "tumbletrace/report/results.hpp"
 #include "tumbletrace/sim/simulate.hpp"
 
@@ -50,51 +51,109 @@ int RunSimulate(const SimulateOptions& options, const CommonOptions& common) {
   return 0;
 }
 
-int RunFit(const FitCommandOptions& options, const CommonOptions& common) {
-  const Session session = ReadSessionYaml(options.session);
-  const std::vector<TrackPoint> tracks = ReadTracksCsv(options.tracks);
-  for (size_t i = 0; i < tracks.size(); ++i) {
-    if (tracks[i].marker && session.body.FindMarker(*tracks[i].marker) == nullptr) {
-      throw InputError(fmt::format("{}:{}: column 'marker': marker {} is not defined in {}",
-                                   options.tracks.string(), tracks[i].source_line, *tracks[i].marker,
-                                   session.body_file.string()));
-    }
-  }
-  FitOptions fit_options;
-  const std::optional<Eigen::Vector3d> g = session.gravity.WorldVector();
-  if (!g || !session.camera.camera_from_world) {
-    throw InputError(fmt::format(
-        "{}: the fit needs gravity as a world vector (gravity_mps2: [x, y, z] or gravity: "
-        "{{latitude_deg, elevation_m}}) and a camera with world_to_camera; estimating the "
-        "direction of gravity from the flight is not available yet",
-        options.session.string()));
-  }
-  fit_options.gravity_world_mps2 = *g;
-  fit_options.gravity_mode = options.estimate_gravity ? GravityMode::kEstimate : GravityMode::kFixed;
-  fit_options.robust_loss_scale_px = options.robust_scale_px;
-  fit_options.first_frame = options.first_frame ? options.first_frame : session.first_frame;
-  fit_options.last_frame = options.last_frame ? options.last_frame : session.last_frame;
+namespace {
 
-  FitResult fit = FitFreeFlight(GroupByFrame(tracks, session.capture_fps), session.body,
-                                session.camera, fit_options);
-  const FlightSummary summary = Summarise(fit, session.body);
-  Provenance provenance;
-  provenance.tool_version = TUMBLETRACE_VERSION;
-  provenance.command = common.command_line;
-  provenance.input_files = {options.session, session.camera_file, session.body_file,
-                            options.tracks};
-  provenance.capture_fps = session.capture_fps;
-
-  std::filesystem::create_directories(options.out_dir);
-  WriteFramesCsv(fit, summary, options.out_dir / "frames.csv");
-  WriteResidualsCsv(fit, options.out_dir / "residuals.csv");
-  // results.json last: its presence says the run completed.
-  WriteResultsJson(ResultsJson(fit, summary, provenance), options.out_dir / "results.json");
+// results.json last: its presence says the run completed.
+void WriteFitOutputs(const FitResult& fit, const FlightSummary& summary,
+                     const Provenance& provenance, const std::filesystem::path& out_dir,
+                     const CommonOptions& common) {
+  std::filesystem::create_directories(out_dir);
+  WriteFramesCsv(fit, summary, out_dir / "frames.csv");
+  WriteResidualsCsv(fit, out_dir / "residuals.csv");
+  WriteResultsJson(ResultsJson(fit, summary, provenance), out_dir / "results.json");
   if (!common.quiet) {
     std::cout << SummaryText(fit, summary);
   } else {
     for (const std::string& w : fit.warnings) std::cerr << "warning: " << w << "\n";
   }
+}
+
+Provenance MakeProvenance(const Session& session, const CommonOptions& common) {
+  Provenance provenance;
+  provenance.tool_version = TUMBLETRACE_VERSION;
+  provenance.command = common.command_line;
+  provenance.input_files = {session.file, session.camera_file, session.body_file};
+  provenance.capture_fps = session.capture_fps;
+  return provenance;
+}
+
+// A progress line on stderr, only for a terminal and not under -q.
+Progress MakeProgress(const CommonOptions& common, const std::string& what) {
+  if (!ShowProgress(common)) return {};
+  return [what](int done, int total) {
+    if (done % 50 != 0) return;
+    if (total > 0) {
+      std::cerr << fmt::format("\r{} frame {}/{}", what, done, total) << std::flush;
+    } else {
+      std::cerr << fmt::format("\r{} frame {}", what, done) << std::flush;
+    }
+  };
+}
+
+void EndProgress(const CommonOptions& common) {
+  if (ShowProgress(common)) std::cerr << "\n";
+}
+
+std::string TrackingSummary(const TrackingResult& t) {
+  return fmt::format(
+      "Read {} frames ({}x{} px, {}-bit {}); {} detections; {} tracks, {} identified as markers "
+      "(assignment rms {:.3f} px)\n",
+      t.frames_read, t.clip.size.width, t.clip.size.height, t.clip.bit_depth, t.clip.kind,
+      t.detections, t.identification.marker_of_track.size() + t.identification.unidentified_tracks.size(),
+      t.identification.marker_of_track.size(), t.identification.anchor_rms_px);
+}
+
+}  // namespace
+
+int RunFit(const FitCommandOptions& options, const CommonOptions& common) {
+  const Session session = ReadSessionYaml(options.session);
+  const std::vector<TrackPoint> tracks = ReadTracksCsv(options.tracks);
+  for (const TrackPoint& p : tracks) {
+    if (p.marker && session.body.FindMarker(*p.marker) == nullptr) {
+      throw InputError(fmt::format("{}:{}: column 'marker': marker {} is not defined in {}",
+                                   options.tracks.string(), p.source_line, *p.marker,
+                                   session.body_file.string()));
+    }
+  }
+  FitOptions fit_options = FitOptionsFor(session);
+  fit_options.gravity_mode = options.estimate_gravity ? GravityMode::kEstimate : GravityMode::kFixed;
+  fit_options.robust_loss_scale_px = options.robust_scale_px;
+  if (options.first_frame) fit_options.first_frame = options.first_frame;
+  if (options.last_frame) fit_options.last_frame = options.last_frame;
+
+  const FitResult fit = FitFreeFlight(GroupByFrame(tracks, session.capture_fps), session.body,
+                                      session.camera, fit_options);
+  Provenance provenance = MakeProvenance(session, common);
+  provenance.input_files.push_back(options.tracks);
+  WriteFitOutputs(fit, Summarise(fit, session.body), provenance, options.out_dir, common);
+  return 0;
+}
+
+int RunTrack(const TrackCommandOptions& options, const CommonOptions& common) {
+  const Session session = ReadSessionYaml(options.session);
+  const TrackingResult tracking = TrackClip(session, TrackingOptions{}, MakeProgress(common, "tracking"));
+  EndProgress(common);
+  std::filesystem::create_directories(options.out_dir);
+  WriteTracksCsv(tracking.points, options.out_dir / "tracks.csv");
+  if (!common.quiet) std::cout << TrackingSummary(tracking);
+  for (const std::string& w : tracking.warnings) std::cerr << "warning: " << w << "\n";
+  return 0;
+}
+
+int RunAnalyze(const AnalyzeOptions& options, const CommonOptions& common) {
+  Session session = ReadSessionYaml(options.session);
+  FitOptions fit_options = FitOptionsFor(session);
+  fit_options.gravity_mode = options.estimate_gravity ? GravityMode::kEstimate : GravityMode::kFixed;
+  if (options.first_frame) fit_options.first_frame = options.first_frame;
+  if (options.last_frame) fit_options.last_frame = options.last_frame;
+  const Analysis analysis =
+      AnalyzeSession(session, TrackingOptions{}, fit_options, MakeProgress(common, "analysing"));
+  EndProgress(common);
+  std::filesystem::create_directories(options.out_dir);
+  WriteTracksCsv(analysis.tracking.points, options.out_dir / "tracks.csv");
+  if (!common.quiet) std::cout << TrackingSummary(analysis.tracking);
+  WriteFitOutputs(analysis.fit, analysis.summary, MakeProvenance(session, common), options.out_dir,
+                  common);
   return 0;
 }
 

@@ -30,4 +30,19 @@ struct FitCommandOptions {
 };
 int RunFit(const FitCommandOptions& options, const CommonOptions& common);
 
+struct TrackCommandOptions {
+  std::filesystem::path session;
+  std::filesystem::path out_dir;
+};
+int RunTrack(const TrackCommandOptions& options, const CommonOptions& common);
+
+struct AnalyzeOptions {
+  std::filesystem::path session;
+  std::filesystem::path out_dir;
+  bool estimate_gravity = false;
+  std::optional<int> first_frame;
+  std::optional<int> last_frame;
+};
+int RunAnalyze(const AnalyzeOptions& options, const CommonOptions& common);
+
 }  // namespace tumbletrace::cli

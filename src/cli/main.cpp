@@ -56,6 +56,29 @@ int main(int argc, char** argv) {
   fit_cmd->add_option("--last-frame", fit.last_frame, "last frame of the free-flight window");
   fit_cmd->add_flag("-q,--quiet", common.quiet, "print nothing but errors and warnings");
 
+  cli::TrackCommandOptions track;
+  CLI::App* track_cmd = app.add_subcommand(
+      "track",
+      "Find, track and identify the markers in the session's clip (a video file or a folder "
+      "of numbered images); writes tracks.csv.");
+  track_cmd->add_option("session", track.session, "session YAML file")->required()->check(CLI::ExistingFile);
+  track_cmd->add_option("-o,--out", track.out_dir, "output folder (created when missing)")->required();
+  track_cmd->add_flag("-q,--quiet", common.quiet, "print nothing but errors and warnings");
+
+  cli::AnalyzeOptions analyze;
+  CLI::App* analyze_cmd = app.add_subcommand(
+      "analyze",
+      "The whole job: markers in the clip -> tracks -> identified markers -> free-flight fit; "
+      "writes results.json (CM in the body frame, launch state, spin, with uncertainty), "
+      "frames.csv, residuals.csv and tracks.csv, and prints a summary.");
+  analyze_cmd->add_option("session", analyze.session, "session YAML file")->required()->check(CLI::ExistingFile);
+  analyze_cmd->add_option("-o,--out", analyze.out_dir, "output folder (created when missing)")->required();
+  analyze_cmd->add_flag("--estimate-gravity", analyze.estimate_gravity,
+                        "estimate all of g as a check of the camera's scale and the capture rate");
+  analyze_cmd->add_option("--first-frame", analyze.first_frame, "first frame of the free-flight window");
+  analyze_cmd->add_option("--last-frame", analyze.last_frame, "last frame of the free-flight window");
+  analyze_cmd->add_flag("-q,--quiet", common.quiet, "print nothing but errors and warnings");
+
   try {
     app.parse(argc, argv);
   } catch (const CLI::ParseError& e) {
@@ -65,6 +88,8 @@ int main(int argc, char** argv) {
   try {
     if (*simulate) return cli::RunSimulate(sim, common);
     if (*fit_cmd) return cli::RunFit(fit, common);
+    if (*track_cmd) return cli::RunTrack(track, common);
+    if (*analyze_cmd) return cli::RunAnalyze(analyze, common);
   } catch (const tumbletrace::InputError& e) {
     std::cerr << "error: " << e.what() << "\n";
     return static_cast<int>(ExitCode::kBadInput);

@@ -88,6 +88,20 @@ Scenario ReadScenarioYaml(const std::filesystem::path& path) {
     if (s.tracks_sigma_px < 0 || s.image_sigma_levels < 0) noise.Fail("", "non-negative noise");
     noise.Finish();
   }
+  if (root.Has("occlusions")) {
+    for (YamlMap o : root.MapList("occlusions")) {
+      Occlusion occlusion;
+      occlusion.marker_id = o.Integer("marker", "a marker id of the body");
+      occlusion.first_frame = o.Integer("first_frame", "a frame number");
+      occlusion.last_frame = o.Integer("last_frame", "a frame number");
+      if (s.body.FindMarker(occlusion.marker_id) == nullptr) o.Fail("marker", "a marker id of the body");
+      if (occlusion.last_frame < occlusion.first_frame) o.Fail("last_frame", "a frame at or after first_frame");
+      o.Finish();
+      s.occlusions.push_back(occlusion);
+    }
+  }
+  s.glints_per_frame = root.OptionalInteger("glints_per_frame", "a count of spots per frame").value_or(0);
+  if (s.glints_per_frame < 0) root.Fail("glints_per_frame", "a non-negative count");
   if (root.Has("video")) {
     YamlMap v = root.Map("video");
     s.video.write = v.OptionalBoolean("write").value_or(true);

@@ -119,7 +119,14 @@ std::vector<Eigen::Vector3d> PartSamples(const Part& part) {
   return pts;
 }
 
-SceneInstant ProjectScene(const Simulation& sim, const RigidState& state) {
+bool Occluded(const Scenario& s, int marker_id, int frame) {
+  for (const Occlusion& o : s.occlusions) {
+    if (o.marker_id == marker_id && frame >= o.first_frame && frame <= o.last_frame) return true;
+  }
+  return false;
+}
+
+SceneInstant ProjectScene(const Simulation& sim, const RigidState& state, int frame) {
   const Scenario& s = sim.scenario;
   SceneInstant scene;
   for (const Part& part : s.body.parts) {
@@ -144,7 +151,22 @@ SceneInstant ProjectScene(const Simulation& sim, const RigidState& state) {
   for (const Marker& m : s.body.markers) {
     Eigen::Vector2d px;
     RenderedDot dot;
+    if (Occluded(s, m.id, frame)) continue;
     if (ProjectMarker(s.camera, state, sim.mass, m, &px, &dot)) scene.dots.push_back(dot);
+  }
+  // Glints: small bright spots at random places, new ones every frame (a fixed seed per
+  // frame, so that every instant of the exposure shows the same ones).
+  std::mt19937_64 rng(s.seed * 7919ULL + static_cast<std::uint64_t>(frame));
+  std::uniform_real_distribution<double> x(20.0, s.camera.intrinsics.width_px - 20.0);
+  std::uniform_real_distribution<double> y(20.0, s.camera.intrinsics.height_px - 20.0);
+  std::uniform_real_distribution<double> r(1.0, 2.5);
+  for (int g = 0; g < s.glints_per_frame; ++g) {
+    RenderedDot glint;
+    glint.center_px = {x(rng), y(rng)};
+    const double radius = r(rng);
+    glint.shape_px2 = radius * radius * Eigen::Matrix2d::Identity();
+    glint.intensity = 1.0;
+    scene.dots.push_back(glint);
   }
   return scene;
 }
@@ -223,7 +245,8 @@ Simulation SimulateFlight(const Scenario& scenario) {
       MarkerTruth t;
       t.id = m.id;
       RenderedDot dot;
-      t.visible = ProjectMarker(scenario.camera, state, sim.mass, m, &t.pixel, &dot);
+      t.visible = ProjectMarker(scenario.camera, state, sim.mass, m, &t.pixel, &dot) &&
+                  !Occluded(scenario, m.id, i);
       f.markers.push_back(t);
       if (!t.visible) continue;
       TrackPoint p;
@@ -266,7 +289,7 @@ cv::Mat RenderSimulatedFrame(const Simulation& sim, int frame) {
   for (int j = 0; j < samples; ++j) {
     // The exposure is centred on the frame time.
     const double offset_s = samples > 1 ? s.exposure_s * ((j + 0.5) / samples - 0.5) : 0.0;
-    exposure.push_back(ProjectScene(sim, integrator.Advance(f.state, offset_s)));
+    exposure.push_back(ProjectScene(sim, integrator.Advance(f.state, offset_s), frame));
   }
   return RenderFrame(exposure, render);
 }

@@ -16,6 +16,8 @@
 //   spin: {axis_body: principal-3, rate_rev_per_s: 6}   # or axis_body: [x, y, z];
 //                                                       # or omega_body_radps: [x, y, z]
 //   noise: {tracks_sigma_px: 0.2, image_sigma_levels: 2.0, seed: 1}
+//   occlusions: [{marker: 3, first_frame: 100, last_frame: 119}]   # optional
+//   glints_per_frame: 2                                             # optional
 //   video: {write: true, format: mp4, playback_fps: 30, exposure_samples: 8, supersampling: 4,
 //           background_level: 40, body_level: 70, dot_level: 230}
 #pragma once
@@ -24,6 +26,7 @@
 #include <Eigen/Geometry>
 #include <cstdint>
 #include <filesystem>
+#include <vector>
 
 #include "tumbletrace/model/body.hpp"
 #include "tumbletrace/model/camera.hpp"
@@ -39,6 +42,13 @@ struct VideoSettings {
   double background_level = 40.0;
   double body_level = 70.0;
   double dot_level = 230.0;
+};
+
+// A marker hidden from the camera over a range of frames (a hand, a shadow, the body).
+struct Occlusion {
+  int marker_id = 0;
+  int first_frame = 0;
+  int last_frame = 0;
 };
 
 struct Scenario {
@@ -58,6 +68,8 @@ struct Scenario {
   double tracks_sigma_px = 0.0;      // Gaussian noise added to tracks.csv, px per axis
   double image_sigma_levels = 2.0;   // sensor noise of the rendered frames, grey levels
   std::uint64_t seed = 1;
+  std::vector<Occlusion> occlusions;
+  int glints_per_frame = 0;          // spurious small bright spots at random places per frame
   VideoSettings video;
 };
 

@@ -9,7 +9,9 @@
 #pragma once
 
 #include <Eigen/Core>
+#include <cstddef>
 #include <opencv2/core.hpp>
+#include <optional>
 #include <string>
 #include <vector>
 
@@ -32,8 +34,12 @@ class Tracker {
  public:
   explicit Tracker(const TrackerOptions& options);
 
-  // Regions where the next frame's detections are expected (around each live track's
-  // prediction). Empty when there are no live tracks: then search the whole frame.
+  // Regions where the detections of `frame` (the next frame to add) are expected: per live
+  // track a square of half-size search_margin_px + its gap-scaled gate around its
+  // prediction, clipped to the image. Empty means "search the whole frame", returned when
+  // there are no live tracks, on every 10th frame (frame % 10 == 0), and when the last frame
+  // added left a detection unassigned to an existing track (something new is in view) or
+  // ended a track, or a track would end by `frame` (the number of live tracks dropped).
   std::vector<cv::Rect> SearchRegions(int frame, cv::Size image_size) const;
 
   // Adds the detections of one frame (frames in increasing order; gaps allowed).
@@ -48,16 +54,23 @@ class Tracker {
 
  private:
   struct Track {
-    int id = 0;
-    std::vector<TrackPoint> points;
-    bool ended = false;
+    int id = 0;                      // creation order, which is the order of first appearance
+    std::vector<TrackPoint> points;  // in frame order; `track` holds `id` until Finish()
+    bool ended = false;              // ended tracks never revive
+    bool merging = false;            // bridging a merge with another dot since its last point
   };
+  // Position expected at `frame` from the track's last points (frame number as time).
   Eigen::Vector2d Predict(const Track& track, int frame) const;
+  // Frames the track has missed before `frame` (0 when seen in the frame before).
+  int Missed(const Track& track, int frame) const;
+  // gate_px * (1 + 0.5 * Missed): the gate widens while a track is bridged.
+  double Gate(const Track& track, int frame) const;
 
   TrackerOptions options_;
-  std::vector<Track> tracks_;
-  int last_frame_ = -1;
-  int next_id_ = 1;
+  std::vector<Track> tracks_;          // every track ever started, in creation order
+  std::vector<std::size_t> live_;      // indices into tracks_ of the tracks not ended
+  std::optional<int> last_frame_;      // the last frame added
+  bool search_full_frame_ = true;      // the last frame left detections unassigned or ended a track
 };
 
 }  // namespace tumbletrace

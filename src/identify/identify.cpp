@@ -1,0 +1,333 @@
+#include "tumbletrace/identify/identify.hpp"
+
+#include <fmt/format.h>
+
+#include <algorithm>
+#include <cmath>
+#include <functional>
+#include <limits>
+#include <numeric>
+#include <opencv2/calib3d.hpp>
+#include <set>
+
+#include "tumbletrace/core/error.hpp"
+
+namespace tumbletrace {
+namespace {
+
+using Pixels = std::map<int, Eigen::Vector2d>;  // frame -> pixel
+
+struct PoseFit {
+  bool ok = false;
+  double rms_px = std::numeric_limits<double>::infinity();
+  cv::Mat rvec, tvec;  // camera from body
+};
+
+cv::Mat CameraMatrix(const CameraIntrinsics& k) {
+  return (cv::Mat_<double>(3, 3) << k.fx_px, 0, k.cx_px, 0, k.fy_px, k.cy_px, 0, 0, 1);
+}
+
+cv::Mat Distortion(const CameraIntrinsics& k) {
+  return (cv::Mat_<double>(1, 5) << k.distortion[0], k.distortion[1], k.distortion[2],
+          k.distortion[3], k.distortion[4]);
+}
+
+class PoseSolver {
+ public:
+  PoseSolver(const Body& body, const Camera& camera)
+      : body_(body), k_(CameraMatrix(camera.intrinsics)), d_(Distortion(camera.intrinsics)) {}
+
+  // The pose of the body from marker ids and their pixels; rejects poses that put a
+  // marker behind the camera or turn a flat dot away from it.
+  PoseFit Solve(const std::vector<int>& marker_ids, const std::vector<Eigen::Vector2d>& pixels) const {
+    std::vector<cv::Point3d> object;
+    std::vector<cv::Point2d> image;
+    for (size_t i = 0; i < marker_ids.size(); ++i) {
+      const Eigen::Vector3d& m = body_.FindMarker(marker_ids[i])->at_body_m;
+      object.emplace_back(m.x(), m.y(), m.z());
+      image.emplace_back(pixels[i].x(), pixels[i].y());
+    }
+    // Several solvers, each refined: a near-planar layout gives any one of them a second,
+    // wrong minimum now and then. The best valid pose wins.
+    PoseFit best;
+    for (const int method : {cv::SOLVEPNP_SQPNP, cv::SOLVEPNP_EPNP, cv::SOLVEPNP_IPPE}) {
+      std::vector<cv::Mat> rvecs, tvecs;
+      try {
+        cv::solvePnPGeneric(object, image, k_, d_, rvecs, tvecs, false,
+                            static_cast<cv::SolvePnPMethod>(method));
+      } catch (const cv::Exception&) {
+        continue;  // a configuration this solver cannot take (IPPE wants a flat layout)
+      }
+      for (size_t i = 0; i < rvecs.size(); ++i) {
+        PoseFit fit = Check(marker_ids, object, image, rvecs[i], tvecs[i]);
+        if (fit.ok && fit.rms_px < best.rms_px) best = fit;
+      }
+    }
+    return best;
+  }
+
+  PoseFit Check(const std::vector<int>& marker_ids, const std::vector<cv::Point3d>& object,
+                const std::vector<cv::Point2d>& image, cv::Mat rvec, cv::Mat tvec) const {
+    PoseFit fit;
+    cv::solvePnPRefineLM(object, image, k_, d_, rvec, tvec);
+    fit.rvec = rvec;
+    fit.tvec = tvec;
+    cv::Mat rmat;
+    cv::Rodrigues(fit.rvec, rmat);
+    Eigen::Matrix3d r;
+    for (int i = 0; i < 3; ++i) {
+      for (int j = 0; j < 3; ++j) r(i, j) = rmat.at<double>(i, j);
+    }
+    const Eigen::Vector3d t(fit.tvec.at<double>(0), fit.tvec.at<double>(1), fit.tvec.at<double>(2));
+    for (int id : marker_ids) {
+      const Marker* m = body_.FindMarker(id);
+      const Eigen::Vector3d x = r * m->at_body_m + t;
+      if (x.z() <= 0) return fit;
+      if (m->normal_body && (r * *m->normal_body).dot(-x) <= 0) return fit;  // faces away
+    }
+    std::vector<cv::Point2d> projected;
+    cv::projectPoints(object, fit.rvec, fit.tvec, k_, d_, projected);
+    double sum_sq = 0.0;
+    for (size_t i = 0; i < image.size(); ++i) {
+      const cv::Point2d e = projected[i] - image[i];
+      sum_sq += e.dot(e);
+    }
+    fit.rms_px = std::sqrt(sum_sq / image.size());
+    fit.ok = true;
+    return fit;
+  }
+
+  Eigen::Vector2d Project(const PoseFit& pose, int marker_id) const {
+    const Eigen::Vector3d& m = body_.FindMarker(marker_id)->at_body_m;
+    std::vector<cv::Point2d> out;
+    cv::projectPoints(std::vector<cv::Point3d>{{m.x(), m.y(), m.z()}}, pose.rvec, pose.tvec, k_, d_, out);
+    return {out[0].x, out[0].y};
+  }
+
+ private:
+  const Body& body_;
+  cv::Mat k_, d_;
+};
+
+// The median per-frame rms of an assignment over the given frames (frames with fewer than
+// four of its tracks are skipped); infinity when it fails on more than a quarter of them.
+double ScoreAssignment(const std::map<int, int>& marker_of_track, const std::map<int, Pixels>& tracks,
+                       const std::vector<int>& frames, const PoseSolver& solver) {
+  std::vector<double> rms;
+  int failed = 0;
+  for (int frame : frames) {
+    std::vector<int> ids;
+    std::vector<Eigen::Vector2d> px;
+    for (const auto& [track, marker] : marker_of_track) {
+      const auto it = tracks.at(track).find(frame);
+      if (it == tracks.at(track).end()) continue;
+      ids.push_back(marker);
+      px.push_back(it->second);
+    }
+    if (ids.size() < 4) continue;
+    const PoseFit fit = solver.Solve(ids, px);
+    if (!fit.ok) {
+      ++failed;
+      continue;
+    }
+    rms.push_back(fit.rms_px);
+  }
+  if (rms.empty() || failed * 4 > static_cast<int>(rms.size()) + failed) {
+    return std::numeric_limits<double>::infinity();
+  }
+  std::nth_element(rms.begin(), rms.begin() + rms.size() / 2, rms.end());
+  return rms[rms.size() / 2];
+}
+
+}  // namespace
+
+IdentifyReport IdentifyTracks(std::vector<TrackPoint>* points, const Body& body,
+                              const Camera& camera, const IdentifyOptions& options) {
+  IdentifyReport report;
+  std::map<int, Pixels> tracks;
+  std::map<int, std::vector<int>> tracks_in_frame;
+  for (const TrackPoint& p : *points) {
+    tracks[p.track][p.frame] = {p.x_px, p.y_px};
+    tracks_in_frame[p.frame].push_back(p.track);
+  }
+  const int n_markers = static_cast<int>(body.markers.size());
+  if (n_markers < 4) {
+    throw DataError(fmt::format("the body has {} markers; identification and the fit need at "
+                                "least 4", n_markers));
+  }
+  const PoseSolver solver(body, camera);
+
+  // 1. The anchor frame: the most tracks present, then the longest-lived ones.
+  auto life = [&](int track) { return static_cast<int>(tracks[track].size()); };
+  int anchor_frame = -1;
+  long best_key = -1;
+  for (const auto& [frame, present] : tracks_in_frame) {
+    const int usable = std::min<int>(present.size(), std::min(n_markers, options.max_anchor_tracks));
+    long lives = 0;
+    for (int t : present) lives += life(t);
+    const long key = usable * 100000000L + lives;
+    if (usable >= 4 && key > best_key) {
+      best_key = key;
+      anchor_frame = frame;
+    }
+  }
+  if (anchor_frame < 0) {
+    throw DataError("no frame shows 4 or more marker tracks at once: the markers cannot be "
+                    "identified (are the markers found? see the detection settings)");
+  }
+  std::vector<int> anchor_tracks = tracks_in_frame[anchor_frame];
+  std::sort(anchor_tracks.begin(), anchor_tracks.end(),
+            [&](int a, int b) { return life(a) > life(b); });
+  anchor_tracks.resize(std::min<size_t>(anchor_tracks.size(),
+                                        std::min(n_markers, options.max_anchor_tracks)));
+
+  // Verification frames: spread over the frames where most anchor tracks are present.
+  std::vector<int> shared;
+  for (const auto& [frame, present] : tracks_in_frame) {
+    int n = 0;
+    for (int t : anchor_tracks) n += tracks[t].count(frame);
+    if (n >= 4) shared.push_back(frame);
+  }
+  std::vector<int> verification = {anchor_frame};
+  const int wanted = options.verification_frames;
+  for (int i = 0; i < wanted && !shared.empty(); ++i) {
+    verification.push_back(shared[(i * (shared.size() - 1)) / std::max(1, wanted - 1)]);
+  }
+
+  // 2. Every injective assignment of the anchor tracks to markers.
+  std::vector<int> ids;
+  for (const Marker& m : body.markers) ids.push_back(m.id);
+  std::vector<Eigen::Vector2d> anchor_px;
+  for (int t : anchor_tracks) anchor_px.push_back(tracks[t][anchor_frame]);
+  const int k = static_cast<int>(anchor_tracks.size());
+  struct Candidate {
+    std::vector<int> markers;
+    double score;
+  };
+  std::vector<Candidate> candidates;
+  std::vector<int> chosen(k);
+  std::vector<bool> used(n_markers, false);
+  std::function<void(int)> enumerate = [&](int depth) {
+    if (depth == k) {
+      const PoseFit fit = solver.Solve(chosen, anchor_px);
+      if (fit.ok && fit.rms_px <= options.accept_rms_px) candidates.push_back({chosen, fit.rms_px});
+      return;
+    }
+    for (int m = 0; m < n_markers; ++m) {
+      if (used[m]) continue;
+      used[m] = true;
+      chosen[depth] = ids[m];
+      enumerate(depth + 1);
+      used[m] = false;
+    }
+  };
+  enumerate(0);
+  if (candidates.empty()) {
+    throw DataError(fmt::format(
+        "no assignment of the {} tracks seen in frame {} to the body's {} markers fits a rigid "
+        "pose within {:.1f} px: check the marker positions in the body file and the camera "
+        "calibration",
+        k, anchor_frame, n_markers, options.accept_rms_px));
+  }
+  for (Candidate& c : candidates) {
+    std::map<int, int> m;
+    for (int i = 0; i < k; ++i) m[anchor_tracks[i]] = c.markers[i];
+    c.score = ScoreAssignment(m, tracks, verification, solver);
+  }
+  std::sort(candidates.begin(), candidates.end(),
+            [](const Candidate& a, const Candidate& b) { return a.score < b.score; });
+  const Candidate& best = candidates.front();
+  if (!std::isfinite(best.score)) {
+    throw DataError("no assignment of tracks to markers holds over the frames: the tracks do "
+                    "not move like one rigid body with the body file's layout");
+  }
+  report.anchor_rms_px = best.score;
+
+  // 3. Ambiguity: a different assignment nearly as good.
+  if (candidates.size() > 1 && std::isfinite(candidates[1].score)) {
+    const Candidate& second = candidates[1];
+    report.runner_up_rms_px = second.score;
+    if (second.score < 3.0 * best.score + 0.5) {
+      std::vector<std::string> swaps;
+      for (int i = 0; i < k; ++i) {
+        if (best.markers[i] != second.markers[i]) {
+          swaps.push_back(fmt::format("{} or {}", best.markers[i], second.markers[i]));
+        }
+      }
+      std::string list;
+      for (size_t i = 0; i < swaps.size(); ++i) list += (i ? "; " : "") + swaps[i];
+      throw DataError(fmt::format(
+          "the marker layout is ambiguous in these views: two assignments of tracks to markers "
+          "fit equally well ({:.2f} px and {:.2f} px rms), so these markers cannot be told "
+          "apart: {}. Make the layout asymmetric (move or add a marker so that no rotation "
+          "maps the layout onto itself) and film again",
+          best.score, second.score, list));
+    }
+  }
+  for (int i = 0; i < k; ++i) report.marker_of_track[anchor_tracks[i]] = best.markers[i];
+
+  // 4. Growth: label further tracks from the poses of frames with enough identified markers.
+  for (int round = 0; round < 5; ++round) {
+    std::map<int, PoseFit> poses;
+    for (const auto& [frame, present] : tracks_in_frame) {
+      std::vector<int> m;
+      std::vector<Eigen::Vector2d> px;
+      for (int t : present) {
+        const auto it = report.marker_of_track.find(t);
+        if (it == report.marker_of_track.end()) continue;
+        m.push_back(it->second);
+        px.push_back(tracks[t][frame]);
+      }
+      if (static_cast<int>(m.size()) < options.min_markers) continue;
+      PoseFit fit = solver.Solve(m, px);
+      if (fit.ok && fit.rms_px <= options.accept_rms_px) poses[frame] = fit;
+    }
+    bool grew = false;
+    for (const auto& [track, pixels] : tracks) {
+      if (report.marker_of_track.count(track)) continue;
+      // Median distance to each marker's projection over the frames with a pose.
+      std::vector<std::pair<double, int>> by_marker;
+      for (int id : ids) {
+        std::vector<double> d;
+        for (const auto& [frame, px] : pixels) {
+          const auto it = poses.find(frame);
+          if (it != poses.end()) d.push_back((solver.Project(it->second, id) - px).norm());
+        }
+        if (d.size() < 3) continue;
+        std::nth_element(d.begin(), d.begin() + d.size() / 2, d.end());
+        by_marker.emplace_back(d[d.size() / 2], id);
+      }
+      if (by_marker.empty()) continue;
+      std::sort(by_marker.begin(), by_marker.end());
+      const auto [distance, id] = by_marker.front();
+      const bool clear = by_marker.size() == 1 || by_marker[1].first > 2.0 * distance;
+      if (distance > options.label_distance_px || !clear) continue;
+      // The marker must not already be taken by a track alive at the same time.
+      bool overlaps = false;
+      for (const auto& [other, marker] : report.marker_of_track) {
+        if (marker != id) continue;
+        for (const auto& [frame, px] : pixels) overlaps |= tracks[other].count(frame) > 0;
+      }
+      if (overlaps) continue;
+      report.marker_of_track[track] = id;
+      grew = true;
+    }
+    if (!grew) break;
+  }
+
+  for (const auto& [track, pixels] : tracks) {
+    if (report.marker_of_track.count(track)) continue;
+    report.unidentified_tracks.push_back(track);
+    report.warnings.push_back(fmt::format(
+        "track {} (frames {}-{}, {} points) matches no marker and is left out (a glint, a "
+        "reflection or a marker seen too briefly)",
+        track, pixels.begin()->first, pixels.rbegin()->first, pixels.size()));
+  }
+  for (TrackPoint& p : *points) {
+    const auto it = report.marker_of_track.find(p.track);
+    p.marker = it == report.marker_of_track.end() ? std::nullopt : std::optional<int>(it->second);
+  }
+  return report;
+}
+
+}  // namespace tumbletrace
