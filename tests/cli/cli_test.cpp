@@ -328,3 +328,91 @@ TEST_F(CliTest, QuietSimulateAndFitPrintNothingOnStdout) {
 }
 
 }  // namespace
+
+// ---- track and analyze: from a clip ------------------------------------------------------
+
+namespace tumbletrace {
+namespace {
+
+class CliClipTest : public CliTest {
+ protected:
+  // Simulates a 120-frame clip into sim/ (the full-size camera, lossless PNG frames or H.264).
+  void SimulateClip(bool png) const {
+    std::string scenario = ScenarioYaml(120, true);
+    if (png) {
+      scenario.replace(scenario.find("video: {write: true"), 19, "video: {write: true, format: png");
+    }
+    Write("scenario.yaml", scenario);
+    const RunResult r = Run("simulate scenario.yaml -o sim");
+    ASSERT_EQ(r.exit_code, 0) << r.err;
+  }
+};
+
+TEST_F(CliClipTest, AnalyzeOfAClipWritesEveryResultAndRecoversTheCm) {
+  ASSERT_NO_FATAL_FAILURE(SimulateClip(false));
+  const RunResult r = Run("analyze sim/session.yaml -o out");
+  ASSERT_EQ(r.exit_code, 0) << r.err;
+  for (const char* name : {"results.json", "frames.csv", "residuals.csv", "tracks.csv"}) {
+    EXPECT_TRUE(fs::is_regular_file(Path("out") / name)) << name;
+  }
+  const json results = json::parse(ReadText(Path("out/results.json")));
+  const json truth = json::parse(ReadText(Path("sim/truth.json")));
+  EXPECT_NEAR(results["cm"]["body_m"][0].get<double>(), truth["cm"]["body_m"][0].get<double>(), 1.5e-3);
+  EXPECT_NE(r.out.find("identified"), std::string::npos) << r.out;
+  // The playback rate written in the file differs from the capture rate: warned.
+  EXPECT_NE(r.out.find("capture rate"), std::string::npos) << r.out;
+}
+
+TEST_F(CliClipTest, TrackWritesIdentifiedTracks) {
+  ASSERT_NO_FATAL_FAILURE(SimulateClip(true));
+  const RunResult r = Run("track sim/session.yaml -o out");
+  ASSERT_EQ(r.exit_code, 0) << r.err;
+  const std::vector<std::string> lines = Lines(ReadText(Path("out/tracks.csv")));
+  ASSERT_GT(lines.size(), 600u);
+  EXPECT_EQ(lines[0], "frame,time_s,track,marker,x_px,y_px,quality");
+  EXPECT_EQ(lines[1].find(",,"), std::string::npos) << "an unidentified first row: " << lines[1];
+}
+
+TEST_F(CliClipTest, TruncatedVideoIsBadInputAndWritesNothing) {
+  ASSERT_NO_FATAL_FAILURE(SimulateClip(false));
+  fs::resize_file(Path("sim/clip.mp4"), fs::file_size(Path("sim/clip.mp4")) / 2);
+  const RunResult r = Run("analyze sim/session.yaml -o out");
+  EXPECT_EQ(r.exit_code, 2) << r.err;
+  EXPECT_NE(r.err.find("clip.mp4"), std::string::npos) << r.err;
+  EXPECT_FALSE(fs::exists(Path("out/results.json")));
+  EXPECT_FALSE(fs::exists(Path("out/tracks.csv")));
+}
+
+TEST_F(CliClipTest, MissingImageFolderIsBadInput) {
+  ASSERT_NO_FATAL_FAILURE(SimulateClip(true));
+  fs::remove_all(Path("sim/frames"));
+  const RunResult r = Run("analyze sim/session.yaml -o out");
+  EXPECT_EQ(r.exit_code, 2) << r.err;
+  EXPECT_NE(r.err.find("frames"), std::string::npos) << r.err;
+  EXPECT_FALSE(fs::exists(Path("out/results.json")));
+}
+
+TEST_F(CliClipTest, ClipWithoutMarkersDoesNotSupportAFit) {
+  std::string scenario = ScenarioYaml(40, true);
+  scenario.replace(scenario.find("supersampling: 2}"), 17, "supersampling: 2, dot_level: 70}");
+  Write("scenario.yaml", scenario);
+  ASSERT_EQ(Run("simulate scenario.yaml -o sim").exit_code, 0);
+  const RunResult r = Run("analyze sim/session.yaml -o out");
+  EXPECT_EQ(r.exit_code, 3) << r.err;
+  EXPECT_NE(r.err.find("no marker tracks"), std::string::npos) << r.err;
+  EXPECT_FALSE(fs::exists(Path("out/results.json")));
+}
+
+TEST_F(CliClipTest, HelpOfTrackAndAnalyzeSaysWhatTheyWrite) {
+  const RunResult analyze = Run("analyze --help");
+  EXPECT_EQ(analyze.exit_code, 0);
+  for (const char* word : {"results.json", "frames.csv", "tracks.csv", "--estimate-gravity"}) {
+    EXPECT_NE(analyze.out.find(word), std::string::npos) << word;
+  }
+  const RunResult track = Run("track --help");
+  EXPECT_EQ(track.exit_code, 0);
+  EXPECT_NE(track.out.find("tracks.csv"), std::string::npos);
+}
+
+}  // namespace
+}  // namespace tumbletrace

@@ -2,10 +2,11 @@
 //
 // Each live track predicts its next position from its recent motion (constant
 // acceleration over the last few points, constant velocity when short); detections are
-// assigned to predictions by a global nearest-neighbour assignment inside a gate. A track
+// assigned to predictions by a global assignment (Hungarian method) inside a gate. A track
 // missing for up to `max_gap_frames` frames is bridged; two tracks competing for one
 // detection (dots that merge) or one track with two candidates of similar distance
-// (a glint beside a dot) end the affected track(s) rather than join wrongly.
+// (a glint beside a dot) skip the frame rather than join wrongly, and end when the miss
+// run exceeds `max_gap_frames`.
 #pragma once
 
 #include <Eigen/Core>
