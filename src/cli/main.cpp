@@ -23,20 +23,37 @@ int main(int argc, char** argv) {
   namespace cli = tumbletrace::cli;
   CLI::App app(kDescription, "tumbletrace");
   app.require_subcommand(1);
+  app.footer(
+      "\nStart here:  tumbletrace analyze session.yaml -o out/\n"
+      "A session names the clip, the capture rate, the camera and the body files; see "
+      "README.md and docs/files.md. Try it on the demo: tumbletrace analyze "
+      "data-demo/session.yaml -o out/demo");
   app.set_version_flag("--version", TUMBLETRACE_VERSION);
   cli::CommonOptions common;
   for (int i = 0; i < argc; ++i) common.command_line += (i ? " " : "") + std::string(argv[i]);
 
-  cli::SimulateOptions sim;
-  CLI::App* simulate = app.add_subcommand(
-      "simulate",
-      "Simulate a throw from a scenario: writes clip.mp4 (H.264), session.yaml, camera.yaml, "
-      "body.yaml, truth.json and tracks.csv (exact marker pixels plus the scenario's noise).");
-  simulate->add_option("scenario", sim.scenario, "scenario YAML file (see docs/scenario.md)")
-      ->required()->check(CLI::ExistingFile);
-  simulate->add_option("-o,--out", sim.out_dir, "output folder (created when missing)")->required();
-  simulate->add_flag("--no-video", sim.no_video, "write the files but not clip.mp4");
-  simulate->add_flag("-q,--quiet", common.quiet, "print nothing but errors");
+  cli::AnalyzeOptions analyze;
+  CLI::App* analyze_cmd = app.add_subcommand(
+      "analyze",
+      "The whole job: markers in the clip -> tracks -> identified markers -> free-flight fit; "
+      "writes results.json (CM in the body frame, launch state, spin, with uncertainty), "
+      "frames.csv, residuals.csv and tracks.csv, and prints a summary.");
+  analyze_cmd->add_option("session", analyze.session, "session YAML file")->required()->check(CLI::ExistingFile);
+  analyze_cmd->add_option("-o,--out", analyze.out_dir, "output folder (created when missing)")->required();
+  analyze_cmd->add_flag("--estimate-gravity", analyze.estimate_gravity,
+                        "estimate all of g as a check of the camera's scale and the capture rate");
+  analyze_cmd->add_option("--first-frame", analyze.first_frame, "first frame of the free-flight window");
+  analyze_cmd->add_option("--last-frame", analyze.last_frame, "last frame of the free-flight window");
+  analyze_cmd->add_flag("-q,--quiet", common.quiet, "print nothing but errors and warnings");
+
+  cli::TrackCommandOptions track;
+  CLI::App* track_cmd = app.add_subcommand(
+      "track",
+      "Find, track and identify the markers in the session's clip (a video file or a folder "
+      "of numbered images); writes tracks.csv.");
+  track_cmd->add_option("session", track.session, "session YAML file")->required()->check(CLI::ExistingFile);
+  track_cmd->add_option("-o,--out", track.out_dir, "output folder (created when missing)")->required();
+  track_cmd->add_flag("-q,--quiet", common.quiet, "print nothing but errors and warnings");
 
   cli::FitCommandOptions fit;
   CLI::App* fit_cmd = app.add_subcommand(
@@ -56,28 +73,16 @@ int main(int argc, char** argv) {
   fit_cmd->add_option("--last-frame", fit.last_frame, "last frame of the free-flight window");
   fit_cmd->add_flag("-q,--quiet", common.quiet, "print nothing but errors and warnings");
 
-  cli::TrackCommandOptions track;
-  CLI::App* track_cmd = app.add_subcommand(
-      "track",
-      "Find, track and identify the markers in the session's clip (a video file or a folder "
-      "of numbered images); writes tracks.csv.");
-  track_cmd->add_option("session", track.session, "session YAML file")->required()->check(CLI::ExistingFile);
-  track_cmd->add_option("-o,--out", track.out_dir, "output folder (created when missing)")->required();
-  track_cmd->add_flag("-q,--quiet", common.quiet, "print nothing but errors and warnings");
-
-  cli::AnalyzeOptions analyze;
-  CLI::App* analyze_cmd = app.add_subcommand(
-      "analyze",
-      "The whole job: markers in the clip -> tracks -> identified markers -> free-flight fit; "
-      "writes results.json (CM in the body frame, launch state, spin, with uncertainty), "
-      "frames.csv, residuals.csv and tracks.csv, and prints a summary.");
-  analyze_cmd->add_option("session", analyze.session, "session YAML file")->required()->check(CLI::ExistingFile);
-  analyze_cmd->add_option("-o,--out", analyze.out_dir, "output folder (created when missing)")->required();
-  analyze_cmd->add_flag("--estimate-gravity", analyze.estimate_gravity,
-                        "estimate all of g as a check of the camera's scale and the capture rate");
-  analyze_cmd->add_option("--first-frame", analyze.first_frame, "first frame of the free-flight window");
-  analyze_cmd->add_option("--last-frame", analyze.last_frame, "last frame of the free-flight window");
-  analyze_cmd->add_flag("-q,--quiet", common.quiet, "print nothing but errors and warnings");
+  cli::SimulateOptions sim;
+  CLI::App* simulate = app.add_subcommand(
+      "simulate",
+      "Simulate a throw from a scenario: writes clip.mp4 (H.264), session.yaml, camera.yaml, "
+      "body.yaml, truth.json and tracks.csv (exact marker pixels plus the scenario's noise).");
+  simulate->add_option("scenario", sim.scenario, "scenario YAML file (see docs/scenario.md)")
+      ->required()->check(CLI::ExistingFile);
+  simulate->add_option("-o,--out", sim.out_dir, "output folder (created when missing)")->required();
+  simulate->add_flag("--no-video", sim.no_video, "write the files but not clip.mp4");
+  simulate->add_flag("-q,--quiet", common.quiet, "print nothing but errors");
 
   try {
     app.parse(argc, argv);
