@@ -84,6 +84,12 @@ MarkerDetectionSettings ReadMarkerSettings(YamlMap& map) {
     map.Fail("max_area_px",
              fmt::format("an area in pixels not below min_area_px ({})", settings.min_area_px));
   }
+  settings.background_radius_px = map.OptionalInteger(
+      "background_radius_px", "a radius in whole pixels, 1 to 50, wider than a dot's radius");
+  if (settings.background_radius_px &&
+      (*settings.background_radius_px < 1 || *settings.background_radius_px > 50)) {
+    map.Fail("background_radius_px", "a radius in whole pixels, 1 to 50, wider than a dot's radius");
+  }
   map.Finish();
   return settings;
 }
@@ -203,6 +209,9 @@ void WriteSessionYaml(const Session& session, const std::filesystem::path& path)
     out << fmt::format("markers: {{kind: {}",
                        markers.kind == MarkerKind::kBrightDots ? "bright-dots" : "dark-dots");
     if (markers.threshold) out << fmt::format(", threshold: {}", *markers.threshold);
+    if (markers.background_radius_px) {
+      out << fmt::format(", background_radius_px: {}", *markers.background_radius_px);
+    }
     out << fmt::format(", min_area_px: {}, max_area_px: {}}}\n", markers.min_area_px,
                        markers.max_area_px);
     if (session.first_frame || session.last_frame) {

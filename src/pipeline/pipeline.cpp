@@ -29,6 +29,9 @@ TrackingResult TrackClip(const Session& session, const TrackingOptions& options,
   if (session.markers.threshold) detector_options.threshold = session.markers.threshold;
   detector_options.min_area_px = session.markers.min_area_px;
   detector_options.max_area_px = session.markers.max_area_px;
+  if (session.markers.background_radius_px) {
+    detector_options.background_radius_px = *session.markers.background_radius_px;
+  }
   MarkerDetector detector(detector_options);
   Tracker tracker(options.tracker);
 

@@ -153,13 +153,14 @@ TEST_F(SessionFileTest, ReadsEveryOptionalSetting) {
   const Session session =
       ReadSessionYaml(WriteSession("gravity_mps2: [0, -9.81, 0]\n"
                                    "markers: {kind: dark-dots, threshold: 40, min_area_px: 5, "
-                                   "max_area_px: 900}\n"
+                                   "max_area_px: 900, background_radius_px: 6}\n"
                                    "frames: {first: 100, last: 450}\n"));
   EXPECT_EQ(session.gravity.WorldVector(), Eigen::Vector3d(0, -9.81, 0));
   EXPECT_EQ(session.markers.kind, MarkerKind::kDarkDots);
   EXPECT_EQ(session.markers.threshold, 40.0);
   EXPECT_EQ(session.markers.min_area_px, 5.0);
   EXPECT_EQ(session.markers.max_area_px, 900.0);
+  EXPECT_EQ(session.markers.background_radius_px, 6);
   EXPECT_EQ(session.first_frame, 100);
   EXPECT_EQ(session.last_frame, 450);
 }
@@ -199,8 +200,11 @@ TEST_F(SessionFileTest, BadValuesAreNamed) {
             "session.yaml:5: key 'frames.last': expected a frame number not before frames.first, "
             "got '5'");
   EXPECT_EQ(ErrorReading("markers: {colour: red}\n"),
-            "session.yaml:5: unknown key 'colour' in 'markers'; allowed: kind, max_area_px, "
-            "min_area_px, threshold");
+            "session.yaml:5: unknown key 'colour' in 'markers'; allowed: background_radius_px, "
+            "kind, max_area_px, min_area_px, threshold");
+  EXPECT_EQ(ErrorReading("markers: {background_radius_px: 0}\n"),
+            "session.yaml:5: key 'markers.background_radius_px': expected a radius in whole "
+            "pixels, 1 to 50, wider than a dot's radius, got '0'");
 }
 
 TEST_F(SessionFileTest, CaptureRateMustBePositive) {

@@ -35,6 +35,7 @@ struct MarkerDetectionSettings {
   std::optional<double> threshold;  // absolute intensity threshold above background
   double min_area_px = 3.0;
   double max_area_px = 2000.0;
+  std::optional<int> background_radius_px;  // the detector's background disc; wider than a dot
 };
 
 struct Session {
