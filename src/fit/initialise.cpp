@@ -10,18 +10,10 @@
 #include <opencv2/core/eigen.hpp>
 
 #include "tumbletrace/core/error.hpp"
+#include "tumbletrace/model/camera_opencv.hpp"
 
 namespace tumbletrace {
 namespace {
-
-cv::Mat CameraMatrix(const CameraIntrinsics& k) {
-  return (cv::Mat_<double>(3, 3) << k.fx_px, 0, k.cx_px, 0, k.fy_px, k.cy_px, 0, 0, 1);
-}
-
-cv::Mat DistortionVector(const CameraIntrinsics& k) {
-  return (cv::Mat_<double>(1, 5) << k.distortion[0], k.distortion[1], k.distortion[2],
-          k.distortion[3], k.distortion[4]);
-}
 
 // Rotation vector of a rotation matrix (log map), radians.
 Eigen::Vector3d LogRotation(const Eigen::Matrix3d& r) {
@@ -101,8 +93,8 @@ PnpSolution SolvePnp(const std::vector<cv::Point3d>& object, const std::vector<c
 std::vector<BodyPose> EstimateFramePoses(const std::vector<FrameSightings>& frames,
                                          const Body& body, const Camera& camera,
                                          int min_markers) {
-  const cv::Mat k = CameraMatrix(camera.intrinsics);
-  const cv::Mat d = DistortionVector(camera.intrinsics);
+  const cv::Mat k = OpenCvCameraMatrix(camera.intrinsics);
+  const cv::Mat d = OpenCvDistortion(camera.intrinsics);
   const RigidTransform world_from_camera =
       camera.camera_from_world.value_or(RigidTransform{}).Inverse();
   struct Correspondences {

@@ -11,6 +11,7 @@
 #include <set>
 
 #include "tumbletrace/core/error.hpp"
+#include "tumbletrace/model/camera_opencv.hpp"
 
 namespace tumbletrace {
 namespace {
@@ -23,19 +24,10 @@ struct PoseFit {
   cv::Mat rvec, tvec;  // camera from body
 };
 
-cv::Mat CameraMatrix(const CameraIntrinsics& k) {
-  return (cv::Mat_<double>(3, 3) << k.fx_px, 0, k.cx_px, 0, k.fy_px, k.cy_px, 0, 0, 1);
-}
-
-cv::Mat Distortion(const CameraIntrinsics& k) {
-  return (cv::Mat_<double>(1, 5) << k.distortion[0], k.distortion[1], k.distortion[2],
-          k.distortion[3], k.distortion[4]);
-}
-
 class PoseSolver {
  public:
   PoseSolver(const Body& body, const Camera& camera)
-      : body_(body), k_(CameraMatrix(camera.intrinsics)), d_(Distortion(camera.intrinsics)) {}
+      : body_(body), k_(OpenCvCameraMatrix(camera.intrinsics)), d_(OpenCvDistortion(camera.intrinsics)) {}
 
   // The pose of the body from marker ids and their pixels; rejects poses that put a
   // marker behind the camera or turn a flat dot away from it.
