@@ -53,6 +53,15 @@ int RunSimulate(const SimulateOptions& options, const CommonOptions& common) {
 
 namespace {
 
+// The session's fit options with the command line's choices on top.
+FitOptions FitOptionsFor(const Session& session, const FitChoices& choices) {
+  FitOptions options = tumbletrace::FitOptionsFor(session);
+  options.gravity_mode = choices.estimate_gravity ? GravityMode::kEstimate : GravityMode::kFixed;
+  if (choices.first_frame) options.first_frame = choices.first_frame;
+  if (choices.last_frame) options.last_frame = choices.last_frame;
+  return options;
+}
+
 // results.json last: its presence says the run completed.
 void WriteFitOutputs(const FitResult& fit, const FlightSummary& summary,
                      const Provenance& provenance, const std::filesystem::path& out_dir,
@@ -115,11 +124,8 @@ int RunFit(const FitCommandOptions& options, const CommonOptions& common) {
                                    session.body_file.string()));
     }
   }
-  FitOptions fit_options = FitOptionsFor(session);
-  fit_options.gravity_mode = options.estimate_gravity ? GravityMode::kEstimate : GravityMode::kFixed;
+  FitOptions fit_options = FitOptionsFor(session, options.choices);
   fit_options.robust_loss_scale_px = options.robust_scale_px;
-  if (options.first_frame) fit_options.first_frame = options.first_frame;
-  if (options.last_frame) fit_options.last_frame = options.last_frame;
 
   const FitResult fit = FitFreeFlight(GroupByFrame(tracks, session.capture_fps), session.body,
                                       session.camera, fit_options);
@@ -142,10 +148,7 @@ int RunTrack(const TrackCommandOptions& options, const CommonOptions& common) {
 
 int RunAnalyze(const AnalyzeOptions& options, const CommonOptions& common) {
   Session session = ReadSessionYaml(options.session);
-  FitOptions fit_options = FitOptionsFor(session);
-  fit_options.gravity_mode = options.estimate_gravity ? GravityMode::kEstimate : GravityMode::kFixed;
-  if (options.first_frame) fit_options.first_frame = options.first_frame;
-  if (options.last_frame) fit_options.last_frame = options.last_frame;
+  const FitOptions fit_options = FitOptionsFor(session, options.choices);
   const Analysis analysis =
       AnalyzeSession(session, TrackingOptions{}, fit_options, MakeProgress(common, "analysing"));
   EndProgress(common);

@@ -12,6 +12,13 @@ struct CommonOptions {
   std::string command_line;
 };
 
+// The fit's choices both `fit` and `analyze` offer.
+struct FitChoices {
+  bool estimate_gravity = false;
+  std::optional<int> first_frame;  // the free-flight window; the session's when absent
+  std::optional<int> last_frame;
+};
+
 struct SimulateOptions {
   std::filesystem::path scenario;
   std::filesystem::path out_dir;
@@ -23,10 +30,8 @@ struct FitCommandOptions {
   std::filesystem::path session;
   std::filesystem::path tracks;
   std::filesystem::path out_dir;
-  bool estimate_gravity = false;
   double robust_scale_px = 1.0;
-  std::optional<int> first_frame;
-  std::optional<int> last_frame;
+  FitChoices choices;
 };
 int RunFit(const FitCommandOptions& options, const CommonOptions& common);
 
@@ -39,9 +44,7 @@ int RunTrack(const TrackCommandOptions& options, const CommonOptions& common);
 struct AnalyzeOptions {
   std::filesystem::path session;
   std::filesystem::path out_dir;
-  bool estimate_gravity = false;
-  std::optional<int> first_frame;
-  std::optional<int> last_frame;
+  FitChoices choices;
 };
 int RunAnalyze(const AnalyzeOptions& options, const CommonOptions& common);
 

@@ -16,6 +16,13 @@ constexpr const char* kDescription =
     "Exit codes: 0 done; 1 internal error; 2 bad input (the message names the file, key or "
     "line); 3 the data do not support a fit.";
 
+void AddFitChoices(CLI::App* command, tumbletrace::cli::FitChoices* choices) {
+  command->add_flag("--estimate-gravity", choices->estimate_gravity,
+                    "estimate all of g as a check of the camera's scale and the capture rate");
+  command->add_option("--first-frame", choices->first_frame, "first frame of the free-flight window");
+  command->add_option("--last-frame", choices->last_frame, "last frame of the free-flight window");
+}
+
 }  // namespace
 
 int main(int argc, char** argv) {
@@ -40,10 +47,7 @@ int main(int argc, char** argv) {
       "frames.csv, residuals.csv and tracks.csv, and prints a summary.");
   analyze_cmd->add_option("session", analyze.session, "session YAML file")->required()->check(CLI::ExistingFile);
   analyze_cmd->add_option("-o,--out", analyze.out_dir, "output folder (created when missing)")->required();
-  analyze_cmd->add_flag("--estimate-gravity", analyze.estimate_gravity,
-                        "estimate all of g as a check of the camera's scale and the capture rate");
-  analyze_cmd->add_option("--first-frame", analyze.first_frame, "first frame of the free-flight window");
-  analyze_cmd->add_option("--last-frame", analyze.last_frame, "last frame of the free-flight window");
+  AddFitChoices(analyze_cmd, &analyze.choices);
   analyze_cmd->add_flag("-q,--quiet", common.quiet, "print nothing but errors and warnings");
 
   cli::TrackCommandOptions track;
@@ -64,13 +68,10 @@ int main(int argc, char** argv) {
   fit_cmd->add_option("--tracks", fit.tracks, "tracks.csv with identified markers")
       ->required()->check(CLI::ExistingFile);
   fit_cmd->add_option("-o,--out", fit.out_dir, "output folder (created when missing)")->required();
-  fit_cmd->add_flag("--estimate-gravity", fit.estimate_gravity,
-                    "estimate all of g as a check of the camera's scale and the capture rate");
+  AddFitChoices(fit_cmd, &fit.choices);
   fit_cmd->add_option("--robust-scale-px", fit.robust_scale_px,
                       "Huber loss scale of the first, robust pass, px")
       ->capture_default_str()->check(CLI::PositiveNumber);
-  fit_cmd->add_option("--first-frame", fit.first_frame, "first frame of the free-flight window");
-  fit_cmd->add_option("--last-frame", fit.last_frame, "last frame of the free-flight window");
   fit_cmd->add_flag("-q,--quiet", common.quiet, "print nothing but errors and warnings");
 
   cli::SimulateOptions sim;

@@ -189,7 +189,6 @@ CmObservability AnalyseCm(const Eigen::MatrixXd& jacobian, bool gravity_fixed, d
   out.information_eigenvalues = eig.eigenvalues() / (sigma_px * sigma_px);
   out.information_eigenvectors = eig.eigenvectors();
   const double largest = std::max(eig.eigenvalues().maxCoeff(), 1e-300);
-  Eigen::Matrix3d projector = Eigen::Matrix3d::Identity();
   for (int k = 0; k < 3; ++k) {
     const double lambda = eig.eigenvalues()[k];
     const double sigma_m =
@@ -201,10 +200,8 @@ CmObservability AnalyseCm(const Eigen::MatrixXd& jacobian, bool gravity_fixed, d
       u.cwiseAbs().maxCoeff(&i_max);
       if (u[i_max] < 0) u = -u;
       out.unobservable_body.push_back(u);
-      projector -= u * u.transpose();
     }
   }
-  out.covariance_m2 = projector;  // filled by the caller with the projected covariance
   return out;
 }
 
@@ -265,6 +262,7 @@ FitResult FitFreeFlight(const std::vector<FrameSightings>& frames, const Body& b
 
   FitResult result;
   result.first_frame = window.front().frame;
+  result.first_time_s = window.front().time_s;
   result.last_frame = window.back().frame;
   result.frames_used = static_cast<int>(window.size());
 
@@ -384,7 +382,9 @@ FitResult FitFreeFlight(const std::vector<FrameSightings>& frames, const Body& b
     result.covariance.block<3, 3>(offset.at(b), offset.at(a)) = s2 * block.transpose();
   }
 
-  const Eigen::Matrix3d projector = result.cm.covariance_m2;
+  // The covariance of c's observable part: projected off the unobservable directions.
+  Eigen::Matrix3d projector = Eigen::Matrix3d::Identity();
+  for (const Eigen::Vector3d& u : result.cm.unobservable_body) projector -= u * u.transpose();
   result.cm.covariance_m2 =
       projector * result.covariance.block<3, 3>(kCm, kCm) * projector.transpose();
   for (const Eigen::Vector3d& u : result.cm.unobservable_body) {

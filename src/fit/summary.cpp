@@ -95,14 +95,7 @@ FlightSummary Summarise(const FitResult& fit, const Body& body) {
 
   // Launch state at the first frame of the window.
   s.launch_frame = fit.first_frame;
-  const double t_launch = fit.residuals.empty() ? p.t0_s : fit.residuals.front().time_s;
-  s.launch_time_s = t_launch;
-  for (const ResidualRecord& r : fit.residuals) {
-    if (r.frame == fit.first_frame) {
-      s.launch_time_s = r.time_s;
-      break;
-    }
-  }
+  s.launch_time_s = fit.first_time_s;
   const double tl = s.launch_time_s;
   const Eigen::MatrixXd& cov = fit.covariance;
   const Eigen::Vector3d position = p.PositionAt(tl);

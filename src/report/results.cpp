@@ -139,10 +139,10 @@ void WriteFramesCsv(const FitResult& fit, const FlightSummary& s,
            "q_w,q_x,q_y,q_z,omega_x_radps,omega_y_radps,omega_z_radps,rms_px,markers\n";
     for (const auto& [frame, t] : times) {
       const Eigen::Vector3d r = p.PositionAt(t), v = p.VelocityAt(t), w = p.OmegaWorldAt(t);
-      const Eigen::Quaterniond q(p.WorldFromBodyAt(t));
+      const Eigen::Matrix3d rot = p.WorldFromBodyAt(t);
+      const Eigen::Quaterniond q(rot);
       out << frame << ',' << fmt::format("{:.9g}", t);
       // The CM's world position is left empty along directions the data do not fix.
-      const Eigen::Matrix3d rot = p.WorldFromBodyAt(t);
       for (int i = 0; i < 3; ++i) {
         std::vector<Eigen::Vector3d> null_world;
         for (const auto& u : s.cm_unobservable_body) null_world.push_back(rot * u);

@@ -78,7 +78,7 @@ struct ResidualRecord {
 
 struct CmObservability {
   std::vector<Eigen::Vector3d> unobservable_body;  // unit vectors
-  Eigen::Matrix3d covariance_m2;  // of the observable part (projected), m^2
+  Eigen::Matrix3d covariance_m2 = Eigen::Matrix3d::Zero();  // of the observable part, m^2
   Eigen::Vector3d information_eigenvalues;  // of c's Schur complement, 1/m^2 (noise-scaled)
   Eigen::Matrix3d information_eigenvectors;  // columns, body frame
 };
@@ -92,6 +92,7 @@ struct FitResult {
   int outliers = 0;
   int frames_used = 0;
   int first_frame = 0;
+  double first_time_s = 0.0;    // time of first_frame
   int last_frame = 0;
   double rms_px = 0.0;          // rms of the inliers' residual vectors' components, px
   double sigma_px = 0.0;        // estimated per-coordinate noise, px (dof-corrected)
