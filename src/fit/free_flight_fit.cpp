@@ -58,6 +58,7 @@ struct ParameterBlocks {
 };
 
 struct Sighting {
+  int camera;
   int frame;
   double time_s;
   int marker_id;
@@ -65,9 +66,11 @@ struct Sighting {
   Eigen::Vector3d marker_body_m;
 };
 
-struct Solved {
-  ceres::Solver::Summary summary;
-};
+// Camera k's clock offset: world time = its frame time + offset.
+double OffsetOf(const FitOptions& options, int camera) {
+  return camera < static_cast<int>(options.time_offsets_s.size()) ? options.time_offsets_s[camera]
+                                                                   : 0.0;
+}
 
 // Builds and solves the problem over the sightings flagged in `use`. The gauge: the world
 // frame is fixed by the camera's pose and gravity; the body frame by the marker layout.
@@ -76,20 +79,22 @@ struct Solved {
 // covariance step below reports it as unobservable instead of giving it a number.
 std::unique_ptr<ceres::Problem> BuildProblem(const std::vector<Sighting>& sightings,
                                              const std::vector<bool>& use, double t0_s,
-                                             const Camera& camera, const FitOptions& options,
-                                             bool robust, ParameterBlocks* blocks) {
+                                             const std::vector<Camera>& cameras,
+                                             const FitOptions& options, bool robust,
+                                             ParameterBlocks* blocks) {
   ceres::Problem::Options problem_options;
   problem_options.manifold_ownership = ceres::TAKE_OWNERSHIP;
   auto problem = std::make_unique<ceres::Problem>(problem_options);
-  const RigidTransform camera_from_world = camera.camera_from_world.value_or(RigidTransform{});
   for (size_t i = 0; i < sightings.size(); ++i) {
     if (!use[i]) continue;
     const Sighting& s = sightings[i];
+    const Camera& camera = cameras[s.camera];
+    const double dt_s = s.time_s + OffsetOf(options, s.camera) - t0_s;
     ceres::LossFunction* loss =
         robust ? new ceres::HuberLoss(options.robust_loss_scale_px) : nullptr;
     problem->AddResidualBlock(
-        MarkerReprojectionCost<>::Create(s.pixel, s.marker_body_m, s.time_s - t0_s,
-                                         camera.intrinsics, camera_from_world),
+        MarkerReprojectionCost<>::Create(s.pixel, s.marker_body_m, dt_s, camera.intrinsics,
+                                         *camera.camera_from_world),
         loss, blocks->r0, blocks->v0, blocks->g, blocks->q0, blocks->w, blocks->c);
   }
   problem->SetManifold(blocks->q0, new ceres::QuaternionManifold);
@@ -114,11 +119,15 @@ ceres::Solver::Summary Solve(ceres::Problem* problem, const FitOptions& options)
 }
 
 std::vector<Eigen::Vector2d> Residuals(const std::vector<Sighting>& sightings,
-                                       const FlightParameters& p, const Camera& camera) {
+                                       const FlightParameters& p,
+                                       const std::vector<Camera>& cameras,
+                                       const FitOptions& options) {
   std::vector<Eigen::Vector2d> r(sightings.size());
   for (size_t i = 0; i < sightings.size(); ++i) {
+    const Sighting& s = sightings[i];
     Eigen::Vector2d predicted;
-    if (p.PredictPixel(camera, sightings[i].marker_body_m, sightings[i].time_s, &predicted)) {
+    if (p.PredictPixel(cameras[s.camera], s.marker_body_m,
+                       s.time_s + OffsetOf(options, s.camera), &predicted)) {
       r[i] = predicted - sightings[i].pixel;
     } else {
       r[i] = Eigen::Vector2d::Constant(std::numeric_limits<double>::infinity());
@@ -217,17 +226,32 @@ double LayoutSize(const Body& body) {
 
 FitResult FitFreeFlight(const std::vector<FrameSightings>& frames, const Body& body,
                         const Camera& camera, const FitOptions& options) {
+  return FitFreeFlight(frames, body, std::vector<Camera>{camera}, options);
+}
+
+FitResult FitFreeFlight(const std::vector<FrameSightings>& frames, const Body& body,
+                        const std::vector<Camera>& cameras, const FitOptions& options) {
   const auto start = std::chrono::steady_clock::now();
   if (const std::string why = options.Validate(); !why.empty()) {
     throw InputError("fit options: " + why);
   }
+  if (cameras.empty()) throw InputError("the fit needs at least one camera");
+  for (size_t k = 0; k < cameras.size(); ++k) {
+    if (!cameras[k].camera_from_world) {
+      throw InputError(fmt::format("camera {} has no world_to_camera pose; the fit needs it", k));
+    }
+  }
 
   // The window, and the sightings in it.
   std::vector<Sighting> sightings;
-  std::map<int, int> frames_in_window;
+  std::map<std::pair<int, int>, int> frames_in_window;  // (camera, frame)
   for (const FrameSightings& f : frames) {
     if (options.first_frame && f.frame < *options.first_frame) continue;
     if (options.last_frame && f.frame > *options.last_frame) continue;
+    if (f.camera < 0 || f.camera >= static_cast<int>(cameras.size())) {
+      throw InputError(fmt::format("frame {} is of camera {}, but the fit has {} camera(s)",
+                                   f.frame, f.camera, cameras.size()));
+    }
     for (const MarkerSighting& s : f.sightings) {
       const Marker* m = body.FindMarker(s.marker_id);
       if (m == nullptr) {
@@ -235,8 +259,8 @@ FitResult FitFreeFlight(const std::vector<FrameSightings>& frames, const Body& b
             "tracks: frame {} names marker {}, which the body file does not define",
             f.frame, s.marker_id));
       }
-      sightings.push_back({f.frame, f.time_s, s.marker_id, s.pixel, m->at_body_m});
-      ++frames_in_window[f.frame];
+      sightings.push_back({f.camera, f.frame, f.time_s, s.marker_id, s.pixel, m->at_body_m});
+      ++frames_in_window[{f.camera, f.frame}];
     }
   }
   if (frames_in_window.size() < 3) {
@@ -244,33 +268,65 @@ FitResult FitFreeFlight(const std::vector<FrameSightings>& frames, const Body& b
                                 "needs at least 3",
                                 frames_in_window.size()));
   }
+  // The window's frames in time order (world time: the camera's clock plus its offset).
   std::vector<FrameSightings> window;
   for (const FrameSightings& f : frames) {
-    if (frames_in_window.count(f.frame)) window.push_back(f);
+    if (frames_in_window.count({f.camera, f.frame})) window.push_back(f);
   }
+  const auto world_time = [&](const FrameSightings& f) {
+    return f.time_s + OffsetOf(options, f.camera);
+  };
+  std::stable_sort(window.begin(), window.end(),
+                   [&](const FrameSightings& a, const FrameSightings& b) {
+                     return world_time(a) < world_time(b);
+                   });
   // t0 at the middle frame of the window decouples position, velocity and acceleration.
-  const double t0_s = window[window.size() / 2].time_s;
+  const double t0_s = world_time(window[window.size() / 2]);
 
-  // The start needs poses from a few dozen frames spread over the window, not all of
-  // them: PnP dominates the cost of the fit otherwise.
-  std::vector<FrameSightings> sampled;
-  const size_t stride = std::max<size_t>(1, window.size() / options.initial_pose_frames);
-  for (size_t i = 0; i < window.size(); i += stride) sampled.push_back(window[i]);
-  const std::vector<BodyPose> poses =
-      EstimateFramePoses(sampled, body, camera, options.min_markers_per_frame);
+  // The start needs poses from a few dozen frames per camera spread over the window, not
+  // all of them: PnP dominates the cost of the fit otherwise.
+  std::vector<BodyPose> poses;
+  for (size_t k = 0; k < cameras.size(); ++k) {
+    std::vector<FrameSightings> of_camera;
+    for (const FrameSightings& f : window) {
+      if (f.camera == static_cast<int>(k)) of_camera.push_back(f);
+    }
+    std::vector<FrameSightings> sampled;
+    const size_t stride = std::max<size_t>(1, of_camera.size() / options.initial_pose_frames);
+    for (size_t i = 0; i < of_camera.size(); i += stride) {
+      sampled.push_back(of_camera[i]);
+      sampled.back().time_s = world_time(of_camera[i]);
+    }
+    for (BodyPose& pose : EstimateFramePoses(sampled, body, cameras[k],
+                                             options.min_markers_per_frame)) {
+      poses.push_back(pose);
+    }
+  }
+  std::stable_sort(poses.begin(), poses.end(),
+                   [](const BodyPose& a, const BodyPose& b) { return a.time_s < b.time_s; });
   FlightParameters initial = InitialiseFlight(poses, t0_s, options);
 
   FitResult result;
-  result.first_frame = window.front().frame;
-  result.first_time_s = window.front().time_s;
-  result.last_frame = window.back().frame;
+  // The window is reported in the frames of the first camera with sightings in it (the
+  // first of the session's list sets the clock).
+  {
+    int reference = window.front().camera;
+    for (const FrameSightings& f : window) reference = std::min(reference, f.camera);
+    std::vector<const FrameSightings*> of_reference;
+    for (const FrameSightings& f : window) {
+      if (f.camera == reference) of_reference.push_back(&f);
+    }
+    result.first_frame = of_reference.front()->frame;
+    result.first_time_s = world_time(*of_reference.front());
+    result.last_frame = of_reference.back()->frame;
+  }
   result.frames_used = static_cast<int>(window.size());
 
   // Pass 1: robust, from the closed-form start.
   ParameterBlocks blocks(initial);
   std::vector<bool> use(sightings.size(), true);
   {
-    auto problem = BuildProblem(sightings, use, t0_s, camera, options, true, &blocks);
+    auto problem = BuildProblem(sightings, use, t0_s, cameras, options, true, &blocks);
     Solve(problem.get(), options);
   }
   // Pass 2 (and a third when the set of outliers changes): plain least squares on the
@@ -279,7 +335,7 @@ FitResult FitFreeFlight(const std::vector<FrameSightings>& frames, const Body& b
   ceres::Solver::Summary summary;
   for (int round = 0; round < 3; ++round) {
     const FlightParameters current = blocks.ToParameters(t0_s);
-    const std::vector<Eigen::Vector2d> r = Residuals(sightings, current, camera);
+    const std::vector<Eigen::Vector2d> r = Residuals(sightings, current, cameras, options);
     std::vector<Eigen::Vector2d> inlier_r;
     for (size_t i = 0; i < r.size(); ++i) {
       if (use[i]) inlier_r.push_back(r[i]);
@@ -290,7 +346,7 @@ FitResult FitFreeFlight(const std::vector<FrameSightings>& frames, const Body& b
     for (size_t i = 0; i < r.size(); ++i) next[i] = r[i].norm() <= limit_px;
     if (round > 0 && next == use) break;
     use = next;
-    problem = BuildProblem(sightings, use, t0_s, camera, options, false, &blocks);
+    problem = BuildProblem(sightings, use, t0_s, cameras, options, false, &blocks);
     summary = Solve(problem.get(), options);
   }
 
@@ -303,12 +359,12 @@ FitResult FitFreeFlight(const std::vector<FrameSightings>& frames, const Body& b
   result.outliers = static_cast<int>(std::count(use.begin(), use.end(), false));
 
   // Residuals and the noise estimate: s^2 = sum r^2 / (n_residuals - n_parameters).
-  const std::vector<Eigen::Vector2d> r = Residuals(sightings, fitted, camera);
+  const std::vector<Eigen::Vector2d> r = Residuals(sightings, fitted, cameras, options);
   double sum_sq = 0.0;
   int n_inliers = 0;
   for (size_t i = 0; i < sightings.size(); ++i) {
-    result.residuals.push_back({sightings[i].frame, sightings[i].time_s, sightings[i].marker_id,
-                                sightings[i].pixel, r[i], !use[i]});
+    result.residuals.push_back({sightings[i].camera, sightings[i].frame, sightings[i].time_s,
+                                sightings[i].marker_id, sightings[i].pixel, r[i], !use[i]});
     if (use[i]) {
       sum_sq += r[i].squaredNorm();
       ++n_inliers;
@@ -327,6 +383,21 @@ FitResult FitFreeFlight(const std::vector<FrameSightings>& frames, const Body& b
   }
   result.rms_px = std::sqrt(sum_sq / (2.0 * n_inliers));
   result.sigma_px = std::sqrt(sum_sq / result.degrees_of_freedom);
+  {
+    std::vector<double> sum_sq_of(cameras.size(), 0.0);
+    std::vector<int> count_of(cameras.size(), 0);
+    for (size_t i = 0; i < sightings.size(); ++i) {
+      if (!use[i]) continue;
+      sum_sq_of[sightings[i].camera] += r[i].squaredNorm();
+      ++count_of[sightings[i].camera];
+    }
+    for (size_t k = 0; k < cameras.size(); ++k) {
+      result.rms_px_per_camera.push_back(
+          count_of[k] > 0 ? std::sqrt(sum_sq_of[k] / (2.0 * count_of[k])) : 0.0);
+      result.time_offsets_s.push_back(OffsetOf(options, static_cast<int>(k)));
+      result.sigma_time_offsets_s.push_back(0.0);
+    }
+  }
 
   // Observability of the CM in the body frame.
   const double layout_size_m = std::max(LayoutSize(body), 1e-3);

@@ -39,6 +39,11 @@ struct FitOptions {
   double unobservable_relative_information = 1e-9;
   std::optional<int> first_frame;  // the window to fit (default: all frames given)
   std::optional<int> last_frame;
+  // Several cameras: camera k's frame i is seen at world time i / fps_k + offset_k. The
+  // offsets are held at these values (missing entries: 0) or, when asked, estimated for
+  // every camera but the first, which sets the clock.
+  std::vector<double> time_offsets_s;
+  bool estimate_time_offsets = false;
 
   // Empty when valid, otherwise the reason.
   std::string Validate() const;
@@ -68,6 +73,7 @@ enum CovarianceBlock { kR0 = 0, kV0 = 3, kG = 6, kQ0 = 9, kOmega = 12, kCm = 15 
 constexpr int kTangentSize = 18;
 
 struct ResidualRecord {
+  int camera = 0;
   int frame = 0;
   double time_s = 0.0;
   int marker_id = 0;
@@ -101,6 +107,11 @@ struct FitResult {
   // involving unobservable directions are meaningless and must not be reported.
   Eigen::Matrix<double, kTangentSize, kTangentSize> covariance;
   CmObservability cm;
+  // Per camera: the clock offsets (held or estimated; 1-sigma 0 when held) and the rms of
+  // the inlier residual components, px.
+  std::vector<double> time_offsets_s;
+  std::vector<double> sigma_time_offsets_s;
+  std::vector<double> rms_px_per_camera;
   std::vector<ResidualRecord> residuals;
   std::vector<std::string> warnings;
   double solve_seconds = 0.0;
@@ -108,6 +119,10 @@ struct FitResult {
 
 // Fits the model. Throws DataError when the sightings cannot support a fit (too few frames
 // or markers for the initialisation), InputError for options or markers not in the body.
+// `frames[i].camera` indexes `cameras`; every camera needs world_to_camera.
+FitResult FitFreeFlight(const std::vector<FrameSightings>& frames, const Body& body,
+                        const std::vector<Camera>& cameras, const FitOptions& options);
+// One camera.
 FitResult FitFreeFlight(const std::vector<FrameSightings>& frames, const Body& body,
                         const Camera& camera, const FitOptions& options);
 

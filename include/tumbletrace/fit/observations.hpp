@@ -14,13 +14,18 @@ struct MarkerSighting {
 };
 
 struct FrameSightings {
-  int frame = 0;
-  double time_s = 0.0;
+  int camera = 0;         // index into the fit's camera list
+  int frame = 0;          // frame number in that camera's clip
+  double time_s = 0.0;    // frame / capture_fps of that camera (its own clock)
   std::vector<MarkerSighting> sightings;
 };
 
-// Groups identified track points by frame (ascending); unidentified points are skipped.
-// The time of frame i is i / capture_fps (../shared/CONTRACT.md), not the file's time_s.
+// Groups identified track points by camera and frame (ascending); unidentified points are
+// skipped. The time of frame i of camera k is i / capture_fps[k] (../shared/CONTRACT.md),
+// not the file's time_s. Throws InputError for a point of a camera not in the list.
+std::vector<FrameSightings> GroupByFrame(const std::vector<TrackPoint>& points,
+                                         const std::vector<double>& capture_fps_per_camera);
+// One camera.
 std::vector<FrameSightings> GroupByFrame(const std::vector<TrackPoint>& points,
                                          double capture_fps);
 

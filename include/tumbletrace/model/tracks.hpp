@@ -18,6 +18,7 @@ struct TrackPoint {
   double y_px = 0.0;
   double quality = 1.0;  // 0..1
   int source_line = 0;   // line in the file it was read from (0: not read from a file)
+  int camera = 0;        // index of the camera in the session's list
 };
 
 // Throws InputError naming the file, the line and the column on malformed rows.
