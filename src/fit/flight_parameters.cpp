@@ -2,8 +2,30 @@
 
 #include "tumbletrace/fit/flight_model.hpp"
 #include "tumbletrace/fit/free_flight_fit.hpp"
+#include "tumbletrace/fit/torque_free.hpp"
 
 namespace tumbletrace {
+
+const char* RotationModelName(RotationModel model) {
+  switch (model) {
+    case RotationModel::kConstantSpin: return "constant-spin";
+    case RotationModel::kSymmetricTop: return "symmetric";
+    case RotationModel::kFreeTop: return "free";
+  }
+  return "unknown";
+}
+
+namespace {
+
+Eigen::Quaterniond ToQuaternion(const Eigen::Vector4d& wxyz) {
+  return Eigen::Quaterniond(wxyz[0], wxyz[1], wxyz[2], wxyz[3]).normalized();
+}
+
+}  // namespace
+
+Eigen::Matrix3d FlightParameters::BodyFromPrincipal() const {
+  return ToQuaternion(body_from_principal_wxyz).toRotationMatrix();
+}
 
 Eigen::Vector3d FlightParameters::PositionAt(double t_s) const {
   Eigen::Vector3d r;
@@ -19,16 +41,59 @@ Eigen::Vector3d FlightParameters::VelocityAt(double t_s) const {
   return v;
 }
 
+void FlightParameters::RotationAt(const std::vector<double>& t_s,
+                                  std::vector<Eigen::Matrix3d>* world_from_body,
+                                  std::vector<Eigen::Vector3d>* omegas_world_radps) const {
+  const size_t n = t_s.size();
+  if (world_from_body) world_from_body->resize(n);
+  if (omegas_world_radps) omegas_world_radps->resize(n);
+  const Eigen::Quaterniond q0 = ToQuaternion(q0_wxyz);
+  if (rotation_model == RotationModel::kConstantSpin) {
+    for (size_t i = 0; i < n; ++i) {
+      double q[4];
+      ConstantSpinRotation::Orientation(q0_wxyz.data(), omega_world_radps.data(),
+                                        t_s[i] - t0_s, q);
+      if (world_from_body) (*world_from_body)[i] = ToQuaternion(Eigen::Vector4d(q)).toRotationMatrix();
+      if (omegas_world_radps) (*omegas_world_radps)[i] = omega_world_radps;
+    }
+    return;
+  }
+  const Eigen::Quaterniond p = ToQuaternion(body_from_principal_wxyz);
+  const Eigen::Quaterniond world_from_principal0 = q0 * p;
+  const Eigen::Vector3d w0 = world_from_principal0.conjugate() * omega_world_radps;
+  const Eigen::Vector3d moments = Moments();
+  TorqueFreeState<double> x0;
+  x0.u[0] = 1.0;
+  x0.u[1] = x0.u[2] = x0.u[3] = 0.0;
+  for (int k = 0; k < 3; ++k) x0.w[k] = w0[k];
+  std::vector<double> taus(n);
+  for (size_t i = 0; i < n; ++i) taus[i] = t_s[i] - t0_s;
+  const std::vector<TorqueFreeState<double>> states = PropagateTorqueFree(
+      moments.data(), x0, taus, TorqueFreeMaxRate(w0.data(), moments.data()),
+      max_step_angle_rad);
+  for (size_t i = 0; i < n; ++i) {
+    const Eigen::Quaterniond u(states[i].u[0], states[i].u[1], states[i].u[2], states[i].u[3]);
+    const Eigen::Quaterniond world_from_principal = world_from_principal0 * u;
+    if (world_from_body) {
+      (*world_from_body)[i] = (world_from_principal * p.conjugate()).normalized().toRotationMatrix();
+    }
+    if (omegas_world_radps) {
+      (*omegas_world_radps)[i] =
+          world_from_principal * Eigen::Vector3d(states[i].w[0], states[i].w[1], states[i].w[2]);
+    }
+  }
+}
+
 Eigen::Matrix3d FlightParameters::WorldFromBodyAt(double t_s) const {
-  double q[4];
-  ConstantSpinRotation::Orientation(q0_wxyz.data(), omega_world_radps.data(), t_s - t0_s, q);
-  return Eigen::Quaterniond(q[0], q[1], q[2], q[3]).normalized().toRotationMatrix();
+  std::vector<Eigen::Matrix3d> r;
+  RotationAt({t_s}, &r, nullptr);
+  return r[0];
 }
 
 Eigen::Vector3d FlightParameters::OmegaWorldAt(double t_s) const {
-  Eigen::Vector3d w;
-  ConstantSpinRotation::AngularVelocityWorld(omega_world_radps.data(), t_s - t0_s, w.data());
-  return w;
+  std::vector<Eigen::Vector3d> w;
+  RotationAt({t_s}, nullptr, &w);
+  return w[0];
 }
 
 bool FlightParameters::PredictPixel(const Camera& camera, const Eigen::Vector3d& marker_body_m,

@@ -7,12 +7,15 @@
 #include <algorithm>
 #include <chrono>
 #include <cmath>
+#include <limits>
 #include <map>
 #include <memory>
 
 #include "tumbletrace/core/error.hpp"
 #include "tumbletrace/fit/initialise.hpp"
+#include "tumbletrace/fit/moment_bounds.hpp"
 #include "tumbletrace/fit/reprojection_cost.hpp"
+#include "tumbletrace/fit/symmetric_axes_manifold.hpp"
 
 namespace tumbletrace {
 
@@ -23,6 +26,12 @@ std::string FitOptions::Validate() const {
   if (max_iterations < 1) return "max_iterations must be at least 1";
   if (initial_pose_frames < 3) return "initial_pose_frames must be at least 3";
   if (!(gravity_world_mps2.norm() > 0)) return "gravity must be a non-zero vector (m/s^2)";
+  if (!(max_step_angle_rad > 0 && max_step_angle_rad <= 0.1)) {
+    return "max_step_angle_rad must be in (0, 0.1] rad";
+  }
+  if (held_inertia && !(held_inertia->moments.minCoeff() > 0)) {
+    return "held principal moments must be positive";
+  }
   if (first_frame && last_frame && *first_frame > *last_frame) {
     return "the first frame of the window comes after its last frame";
   }
@@ -31,86 +40,174 @@ std::string FitOptions::Validate() const {
 
 namespace {
 
-// The parameter blocks Ceres works on, in the order of the cost function.
+// Camera k's clock offset as given: world time = its frame time + offset.
+double OffsetOf(const FitOptions& options, int camera) {
+  return camera < static_cast<int>(options.time_offsets_s.size()) ? options.time_offsets_s[camera]
+                                                                   : 0.0;
+}
+
+struct Sighting {
+  int camera;
+  int frame;
+  double time_s;      // the camera's own clock
+  int marker_id;
+  Eigen::Vector2d pixel;
+  Eigen::Vector3d marker_body_m;
+  int sample = 0;     // index into the camera's torque-free trajectory
+};
+
+// The parameter blocks Ceres works on.
 struct ParameterBlocks {
-  explicit ParameterBlocks(const FlightParameters& p) {
+  ParameterBlocks(const FlightParameters& p, int cameras) : like(p), offsets(cameras, 0.0) {
     std::copy_n(p.r0_world_m.data(), 3, r0);
     std::copy_n(p.v0_world_mps.data(), 3, v0);
     std::copy_n(p.g_world_mps2.data(), 3, g);
     std::copy_n(p.q0_wxyz.data(), 4, q0);
     std::copy_n(p.omega_world_radps.data(), 3, w);
     std::copy_n(p.cm_body_m.data(), 3, c);
+    std::copy_n(p.body_from_principal_wxyz.data(), 4, principal);
+    std::copy_n(p.moments_sd.data(), 2, sd);
+    for (int k = 0; k < cameras && k < static_cast<int>(p.time_offsets_s.size()); ++k) {
+      offsets[k] = p.time_offsets_s[k];
+    }
   }
-  FlightParameters ToParameters(double t0_s) const {
-    FlightParameters p;
-    p.t0_s = t0_s;
+  FlightParameters ToParameters() const {
+    FlightParameters p = like;
     p.r0_world_m = Eigen::Vector3d(r0);
     p.v0_world_mps = Eigen::Vector3d(v0);
     p.g_world_mps2 = Eigen::Vector3d(g);
     p.q0_wxyz = Eigen::Vector4d(q0).normalized();
     p.omega_world_radps = Eigen::Vector3d(w);
     p.cm_body_m = Eigen::Vector3d(c);
+    p.body_from_principal_wxyz = Eigen::Vector4d(principal).normalized();
+    p.moments_sd = Eigen::Vector2d(sd);
+    p.time_offsets_s = offsets;
     return p;
   }
-  std::vector<double*> All() { return {r0, v0, g, q0, w, c}; }
 
-  double r0[3], v0[3], g[3], q0[4], w[3], c[3];
+  FlightParameters like;  // t0, model and settings
+  double r0[3], v0[3], g[3], q0[4], w[3], c[3], principal[4], sd[2];
+  std::vector<double> offsets;  // one per camera; sized once (Ceres keeps the pointers)
 };
 
-struct Sighting {
-  int camera;
-  int frame;
-  double time_s;
-  int marker_id;
-  Eigen::Vector2d pixel;
-  Eigen::Vector3d marker_body_m;
+// What every problem of one fit shares.
+struct FitContext {
+  const std::vector<Sighting>& sightings;
+  const std::vector<Camera>& cameras;
+  const FitOptions& options;
+  double t0_s;
+  std::vector<std::shared_ptr<TorqueFreeTrajectory>> trajectories;  // per camera
 };
 
-// Camera k's clock offset: world time = its frame time + offset.
-double OffsetOf(const FitOptions& options, int camera) {
-  return camera < static_cast<int>(options.time_offsets_s.size()) ? options.time_offsets_s[camera]
-                                                                   : 0.0;
-}
+// A block Ceres estimates and where its tangent goes in the covariance layout
+// (CovarianceBlock): layout = embed * tangent.
+struct ActiveBlock {
+  double* data;
+  int layout;
+  Eigen::MatrixXd embed;
+  int tangent() const { return static_cast<int>(embed.cols()); }
+};
 
-// Builds and solves the problem over the sightings flagged in `use`. The gauge: the world
-// frame is fixed by the camera's pose and gravity; the body frame by the marker layout.
-// Nothing else is fixed, so a spin about an axis fixed in space leaves one direction of c
-// (with r0) free: Levenberg-Marquardt's damping keeps it at its initial value, and the
-// covariance step below reports it as unobservable instead of giving it a number.
-std::unique_ptr<ceres::Problem> BuildProblem(const std::vector<Sighting>& sightings,
-                                             const std::vector<bool>& use, double t0_s,
-                                             const std::vector<Camera>& cameras,
-                                             const FitOptions& options, bool robust,
-                                             ParameterBlocks* blocks) {
+struct ModelProblem {
+  std::unique_ptr<ceres::Problem> problem;
+  std::vector<ActiveBlock> active;
+};
+
+// Builds the problem of one rotation model over the sightings flagged in `use`. The
+// gauge: the world frame is fixed by the cameras' poses and gravity, the body frame by the
+// marker layout, the clock by the first camera. Nothing else is fixed, so a spin about an
+// axis fixed in space leaves one direction of c (with r0) free: Levenberg-Marquardt's
+// damping keeps it at its initial value, and the covariance step reports it as
+// unobservable instead of giving it a number.
+ModelProblem BuildProblem(const FitContext& ctx, RotationModel model, const std::vector<bool>& use,
+                          bool robust, ParameterBlocks* b) {
   ceres::Problem::Options problem_options;
   problem_options.manifold_ownership = ceres::TAKE_OWNERSHIP;
-  auto problem = std::make_unique<ceres::Problem>(problem_options);
-  for (size_t i = 0; i < sightings.size(); ++i) {
+  ModelProblem out;
+  out.problem = std::make_unique<ceres::Problem>(problem_options);
+  ceres::Problem& problem = *out.problem;
+  const bool torque_free = model != RotationModel::kConstantSpin;
+  for (size_t i = 0; i < ctx.sightings.size(); ++i) {
     if (!use[i]) continue;
-    const Sighting& s = sightings[i];
-    const Camera& camera = cameras[s.camera];
-    const double dt_s = s.time_s + OffsetOf(options, s.camera) - t0_s;
+    const Sighting& s = ctx.sightings[i];
+    const Camera& camera = ctx.cameras[s.camera];
+    SightingGeometry geometry{s.pixel, s.marker_body_m, s.time_s - ctx.t0_s, camera.intrinsics,
+                              *camera.camera_from_world};
     ceres::LossFunction* loss =
-        robust ? new ceres::HuberLoss(options.robust_loss_scale_px) : nullptr;
-    problem->AddResidualBlock(
-        MarkerReprojectionCost<>::Create(s.pixel, s.marker_body_m, dt_s, camera.intrinsics,
-                                         *camera.camera_from_world),
-        loss, blocks->r0, blocks->v0, blocks->g, blocks->q0, blocks->w, blocks->c);
+        robust ? new ceres::HuberLoss(ctx.options.robust_loss_scale_px) : nullptr;
+    double* offset = &b->offsets[s.camera];
+    if (torque_free) {
+      problem.AddResidualBlock(TorqueFreeReprojectionCost<>::Create(
+                                   std::move(geometry), ctx.trajectories[s.camera], s.sample),
+                               loss, b->r0, b->v0, b->g, b->q0, b->w, b->c, offset, b->principal,
+                               b->sd);
+    } else {
+      problem.AddResidualBlock(MarkerReprojectionCost<>::Create(std::move(geometry)), loss, b->r0,
+                               b->v0, b->g, b->q0, b->w, b->c, offset);
+    }
   }
-  problem->SetManifold(blocks->q0, new ceres::QuaternionManifold);
-  if (options.gravity_mode == GravityMode::kFixed) problem->SetParameterBlockConstant(blocks->g);
-  return problem;
+  const auto identity = [](int n) { return Eigen::MatrixXd::Identity(n, n); };
+  problem.SetManifold(b->q0, new ceres::QuaternionManifold);
+  out.active = {{b->r0, kR0, identity(3)}, {b->v0, kV0, identity(3)}};
+  if (ctx.options.gravity_mode == GravityMode::kFixed) {
+    problem.SetParameterBlockConstant(b->g);
+  } else {
+    out.active.push_back({b->g, kG, identity(3)});
+  }
+  out.active.push_back({b->q0, kQ0, identity(3)});
+  out.active.push_back({b->w, kOmega, identity(3)});
+  out.active.push_back({b->c, kCm, identity(3)});
+  if (torque_free) {
+    if (ctx.options.held_inertia) {
+      problem.SetParameterBlockConstant(b->principal);
+      problem.SetParameterBlockConstant(b->sd);
+    } else if (model == RotationModel::kSymmetricTop) {
+      // Tangent: rotations about principal axes 1 and 2 (full angles); the layout's is
+      // Ceres' quaternion tangent in the body frame (half angles): embed = [a1 a2] / 2.
+      problem.SetManifold(b->principal, new SymmetricAxesManifold);
+      problem.SetManifold(b->sd, new ceres::SubsetManifold(2, {1}));
+      BoundMoments(&problem, b->sd, true);
+      const Eigen::Matrix3d axes = b->ToParameters().BodyFromPrincipal();
+      out.active.push_back({b->principal, kPrincipal, 0.5 * axes.leftCols(2)});
+      out.active.push_back({b->sd, kMoments, Eigen::MatrixXd::Identity(2, 1)});
+    } else {
+      problem.SetManifold(b->principal, new ceres::QuaternionManifold);
+      BoundMoments(&problem, b->sd, false);
+      out.active.push_back({b->principal, kPrincipal, identity(3)});
+      out.active.push_back({b->sd, kMoments, identity(2)});
+    }
+  }
+  for (size_t k = 0; k < b->offsets.size(); ++k) {
+    double* offset = &b->offsets[k];
+    if (!problem.HasParameterBlock(offset)) continue;
+    if (k == 0 || !ctx.options.estimate_time_offsets) {
+      problem.SetParameterBlockConstant(offset);
+    } else {
+      out.active.push_back({offset, kTimeOffsets + static_cast<int>(k), identity(1)});
+    }
+  }
+  return out;
 }
 
-ceres::Solver::Summary Solve(ceres::Problem* problem, const FitOptions& options) {
+// kPrecise: the solution the covariance is taken at. kComparison: the robust passes and
+// the fits of the models the BIC compares, which need the cost to ~1e-9 relative, not the
+// parameters to the last digit (a torque-free model the data do not determine creeps along
+// its flat directions for a hundred iterations at the precise tolerances).
+enum class Precision { kComparison, kPrecise };
+
+ceres::Solver::Summary Solve(ceres::Problem* problem, const FitOptions& options,
+                             Precision precision = Precision::kPrecise) {
   ceres::Solver::Options solver;
   solver.linear_solver_type = ceres::DENSE_QR;
-  solver.max_num_iterations = options.max_iterations;
+  const bool precise = precision == Precision::kPrecise;
+  // A robust pass or a comparison needs no more: a torque-free model the data do not
+  // determine can otherwise creep along its flat directions for a hundred iterations.
+  solver.max_num_iterations = precise ? options.max_iterations : std::min(options.max_iterations, 30);
   // Ceres' default tolerances (1e-6 on the cost) stop far from the optimum of a problem
   // this well conditioned; these stop at the limit of double precision instead.
-  solver.function_tolerance = 1e-15;
-  solver.gradient_tolerance = 1e-15;
-  solver.parameter_tolerance = 1e-14;
+  solver.function_tolerance = precise ? 1e-15 : 1e-9;
+  solver.gradient_tolerance = precise ? 1e-15 : 1e-10;
+  solver.parameter_tolerance = precise ? 1e-14 : 1e-8;
   solver.num_threads = 1;
   solver.logging_type = ceres::SILENT;
   ceres::Solver::Summary summary;
@@ -118,17 +215,24 @@ ceres::Solver::Summary Solve(ceres::Problem* problem, const FitOptions& options)
   return summary;
 }
 
-std::vector<Eigen::Vector2d> Residuals(const std::vector<Sighting>& sightings,
-                                       const FlightParameters& p,
-                                       const std::vector<Camera>& cameras,
-                                       const FitOptions& options) {
-  std::vector<Eigen::Vector2d> r(sightings.size());
-  for (size_t i = 0; i < sightings.size(); ++i) {
-    const Sighting& s = sightings[i];
+// Residuals of every sighting (predicted - observed), one integration for all.
+std::vector<Eigen::Vector2d> Residuals(const FitContext& ctx, const FlightParameters& p) {
+  const size_t n = ctx.sightings.size();
+  std::vector<double> times(n);
+  for (size_t i = 0; i < n; ++i) {
+    const int k = ctx.sightings[i].camera;
+    times[i] = ctx.sightings[i].time_s + (k < static_cast<int>(p.time_offsets_s.size()) ? p.time_offsets_s[k] : 0.0);
+  }
+  std::vector<Eigen::Matrix3d> rotations;
+  p.RotationAt(times, &rotations, nullptr);
+  std::vector<Eigen::Vector2d> r(n);
+  for (size_t i = 0; i < n; ++i) {
+    const Sighting& s = ctx.sightings[i];
+    const Eigen::Vector3d x_world =
+        p.PositionAt(times[i]) + rotations[i] * (s.marker_body_m - p.cm_body_m);
     Eigen::Vector2d predicted;
-    if (p.PredictPixel(cameras[s.camera], s.marker_body_m,
-                       s.time_s + OffsetOf(options, s.camera), &predicted)) {
-      r[i] = predicted - sightings[i].pixel;
+    if (ProjectWorldPoint(ctx.cameras[s.camera], x_world, &predicted)) {
+      r[i] = predicted - s.pixel;
     } else {
       r[i] = Eigen::Vector2d::Constant(std::numeric_limits<double>::infinity());
     }
@@ -150,49 +254,56 @@ double RobustSigma(const std::vector<Eigen::Vector2d>& r) {
   return 1.4826 * *mid;
 }
 
-// Dense tangent-space Jacobian of all residuals, columns in CovarianceBlock order (the
-// columns of gravity are zero when it is held fixed).
-Eigen::MatrixXd DenseJacobian(ceres::Problem* problem, ParameterBlocks* blocks,
-                              bool gravity_fixed) {
+// Dense Jacobian of all residuals in the tangent spaces of the active blocks (columns in
+// their order).
+Eigen::MatrixXd DenseJacobian(const ModelProblem& mp) {
   ceres::Problem::EvaluateOptions eval;
-  std::vector<int> column_of_block;
-  const std::vector<double*> all = blocks->All();
-  const int offsets[] = {kR0, kV0, kG, kQ0, kOmega, kCm};
-  for (size_t b = 0; b < all.size(); ++b) {
-    if (gravity_fixed && all[b] == blocks->g) continue;
-    eval.parameter_blocks.push_back(all[b]);
-    for (int k = 0; k < 3; ++k) column_of_block.push_back(offsets[b] + k);
+  int columns = 0;
+  for (const ActiveBlock& a : mp.active) {
+    eval.parameter_blocks.push_back(a.data);
+    columns += a.tangent();
   }
   ceres::CRSMatrix crs;
-  problem->Evaluate(eval, nullptr, nullptr, nullptr, &crs);
-  Eigen::MatrixXd j = Eigen::MatrixXd::Zero(crs.num_rows, kTangentSize);
+  mp.problem->Evaluate(eval, nullptr, nullptr, nullptr, &crs);
+  Eigen::MatrixXd j = Eigen::MatrixXd::Zero(crs.num_rows, columns);
   for (int row = 0; row < crs.num_rows; ++row) {
-    for (int k = crs.rows[row]; k < crs.rows[row + 1]; ++k) {
-      j(row, column_of_block.at(crs.cols[k])) = crs.values[k];
-    }
+    for (int k = crs.rows[row]; k < crs.rows[row + 1]; ++k) j(row, crs.cols[k]) = crs.values[k];
   }
   return j;
 }
 
-// The information of c with every other parameter marginalised (Schur complement of the
-// normal matrix), its eigen-structure, and the unobservable directions.
-CmObservability AnalyseCm(const Eigen::MatrixXd& jacobian, bool gravity_fixed, double sigma_px,
-                          double layout_size_m, const FitOptions& options) {
-  Eigen::MatrixXd info = jacobian.transpose() * jacobian;  // px^-2-free: J^T J
+int ColumnOf(const ModelProblem& mp, const double* block) {
+  int column = 0;
+  for (const ActiveBlock& a : mp.active) {
+    if (a.data == block) return column;
+    column += a.tangent();
+  }
+  return -1;
+}
+
+// The information of the parameters in columns [first, first + size) with every other
+// parameter marginalised: the Schur complement of J^T J.
+Eigen::MatrixXd MarginalInformation(const Eigen::MatrixXd& jacobian, int first, int size) {
+  const Eigen::MatrixXd info = jacobian.transpose() * jacobian;
   std::vector<int> others;
-  for (int i = 0; i < kCm; ++i) {
-    if (gravity_fixed && i >= kG && i < kG + 3) continue;
-    others.push_back(i);
+  for (int i = 0; i < info.cols(); ++i) {
+    if (i < first || i >= first + size) others.push_back(i);
   }
   const int n = static_cast<int>(others.size());
-  Eigen::MatrixXd a_oo(n, n), a_oc(n, 3);
+  Eigen::MatrixXd a_oo(n, n), a_oc(n, size);
   for (int i = 0; i < n; ++i) {
     for (int j = 0; j < n; ++j) a_oo(i, j) = info(others[i], others[j]);
-    a_oc.row(i) = info.block(others[i], kCm, 1, 3);
+    a_oc.row(i) = info.block(others[i], first, 1, size);
   }
-  const Eigen::Matrix3d a_cc = info.block<3, 3>(kCm, kCm);
-  const Eigen::Matrix3d schur =
-      a_cc - a_oc.transpose() * a_oo.completeOrthogonalDecomposition().solve(a_oc);
+  return info.block(first, first, size, size) -
+         a_oc.transpose() * a_oo.completeOrthogonalDecomposition().solve(a_oc);
+}
+
+// The information of c with every other parameter marginalised, its eigen-structure, and
+// the unobservable directions.
+CmObservability AnalyseCm(const Eigen::MatrixXd& jacobian, int cm_column, double sigma_px,
+                          double layout_size_m, const FitOptions& options) {
+  const Eigen::Matrix3d schur = MarginalInformation(jacobian, cm_column, 3);
   Eigen::SelfAdjointEigenSolver<Eigen::Matrix3d> eig(0.5 * (schur + schur.transpose()));
   CmObservability out;
   out.information_eigenvalues = eig.eigenvalues() / (sigma_px * sigma_px);
@@ -220,6 +331,157 @@ double LayoutSize(const Body& body) {
     for (const Marker& b : body.markers) size = std::max(size, (a.at_body_m - b.at_body_m).norm());
   }
   return size;
+}
+
+// One rotation model fitted: its parameters, the sightings it kept and Ceres' summary.
+struct ModelFit {
+  RotationModel model = RotationModel::kConstantSpin;
+  FlightParameters parameters;
+  std::vector<bool> use;
+  ceres::Solver::Summary summary;
+  double sum_sq_px2 = 0.0;
+  int parameter_count = 0;
+};
+
+// Fits one model from `start`. With `reject_outliers`: a robust pass (Huber) over every
+// sighting, then plain least squares on the sightings within `outlier_threshold_sigma`
+// robust standard deviations, again while that set changes (at most three rounds).
+// Without: plain least squares on `use` as given.
+ModelFit FitModel(const FitContext& ctx, RotationModel model, const FlightParameters& start,
+                  std::vector<bool> use, bool reject_outliers, Precision precision) {
+  FlightParameters from = start;
+  from.rotation_model = model;
+  ParameterBlocks blocks(from, static_cast<int>(ctx.cameras.size()));
+  ModelFit fit;
+  fit.model = model;
+  if (reject_outliers) {
+    std::fill(use.begin(), use.end(), true);
+    ModelProblem robust = BuildProblem(ctx, model, use, true, &blocks);
+    Solve(robust.problem.get(), ctx.options, Precision::kComparison);
+    for (int round = 0; round < 3; ++round) {
+      const std::vector<Eigen::Vector2d> r = Residuals(ctx, blocks.ToParameters());
+      std::vector<Eigen::Vector2d> inlier_r;
+      for (size_t i = 0; i < r.size(); ++i) {
+        if (use[i]) inlier_r.push_back(r[i]);
+      }
+      const double sigma = RobustSigma(round == 0 ? r : inlier_r);
+      const double limit_px = ctx.options.outlier_threshold_sigma * std::max(sigma, 1e-6);
+      std::vector<bool> next(r.size());
+      for (size_t i = 0; i < r.size(); ++i) next[i] = r[i].norm() <= limit_px;
+      if (round > 0 && next == use) break;
+      use = next;
+      ModelProblem mp = BuildProblem(ctx, model, use, false, &blocks);
+      fit.summary = Solve(mp.problem.get(), ctx.options, precision);
+      fit.parameter_count = 0;
+      for (const ActiveBlock& a : mp.active) fit.parameter_count += a.tangent();
+    }
+  } else {
+    ModelProblem mp = BuildProblem(ctx, model, use, false, &blocks);
+    fit.summary = Solve(mp.problem.get(), ctx.options, precision);
+    for (const ActiveBlock& a : mp.active) fit.parameter_count += a.tangent();
+  }
+  fit.parameters = blocks.ToParameters();
+  fit.use = use;
+  const std::vector<Eigen::Vector2d> r = Residuals(ctx, fit.parameters);
+  for (size_t i = 0; i < r.size(); ++i) {
+    if (use[i]) fit.sum_sq_px2 += r[i].squaredNorm();
+  }
+  return fit;
+}
+
+// Bayesian information criterion of a Gaussian model with unknown variance:
+// n ln(RSS / n) + k ln n (Schwarz 1978; the usual form, common practice).
+double Bic(double sum_sq, int n_residuals, int parameters) {
+  const double n = n_residuals;
+  return n * std::log(std::max(sum_sq, 1e-300) / n) + parameters * std::log(n);
+}
+
+// The automatic choice among the rotation models (FitOptions::rotation = kAuto):
+// 1. the constant spin and the free top are fitted (robust pass, outliers set aside);
+// 2. on the free top's inliers (the richest model fits every kind of throw) the constant
+//    spin is fitted again, and both are scored by BIC = n ln(RSS/n) + k ln n;
+// 3. the symmetric top lies between them (RSS_free <= RSS_symmetric <= RSS_spin), so its
+//    BIC is at least n ln(RSS_free/n) + k_symmetric ln n: when that bound already exceeds
+//    the better of the two, it cannot win and is not fitted; nor when the free top's two
+//    closest principal moments differ by more than 2 sqrt(2 ln n) of their standard
+//    deviation (the Wald statistic of "equal moments" then exceeds four times the BIC
+//    penalty of the two extra parameters); otherwise it is fitted and scored;
+// 4. the model with the lowest BIC wins.
+ModelFit ChooseRotationModel(const FitContext& ctx, const std::vector<BodyPose>& poses,
+                             const FlightParameters& initial, FitResult* result) {
+  const std::vector<bool> all(ctx.sightings.size(), true);
+  const ModelFit first_spin =
+      FitModel(ctx, RotationModel::kConstantSpin, initial, all, true, Precision::kComparison);
+  const ModelFit free =
+      FitModel(ctx, RotationModel::kFreeTop,
+               InitialiseTorqueFree(poses, first_spin.parameters, RotationModel::kFreeTop, ctx.options),
+               all, true, Precision::kComparison);
+  const ModelFit spin = FitModel(ctx, RotationModel::kConstantSpin, first_spin.parameters, free.use,
+                                 false, Precision::kComparison);
+  const int n = 2 * static_cast<int>(std::count(free.use.begin(), free.use.end(), true));
+  std::vector<ModelFit> fits = {spin, free};
+  std::string skipped;
+  if (!ctx.options.held_inertia) {
+    const int symmetric_parameters = free.parameter_count - 2;
+    const double bound = Bic(free.sum_sq_px2, n, symmetric_parameters);
+    const double best = std::min(Bic(spin.sum_sq_px2, n, spin.parameter_count),
+                                 Bic(free.sum_sq_px2, n, free.parameter_count));
+    // The Wald statistic of the closest pair of moments, from the free top's information.
+    double z = 0.0;
+    {
+      ParameterBlocks blocks(free.parameters, static_cast<int>(ctx.cameras.size()));
+      ModelProblem mp = BuildProblem(ctx, RotationModel::kFreeTop, free.use, false, &blocks);
+      const Eigen::MatrixXd jacobian = DenseJacobian(mp);
+      const Eigen::Matrix2d info = MarginalInformation(jacobian, ColumnOf(mp, blocks.sd), 2);
+      const double s2 = free.sum_sq_px2 / std::max(1, n - free.parameter_count);
+      const Eigen::Matrix2d cov = s2 * info.completeOrthogonalDecomposition().pseudoInverse();
+      // Differences of the moments (s - d, s + d, 1) as gradients in (s, d).
+      const double s = blocks.sd[0], d = blocks.sd[1];
+      const std::pair<double, Eigen::Vector2d> pairs[] = {
+          {2 * d, {0, 2}}, {1 - s - d, {-1, -1}}, {1 - s + d, {-1, 1}}};
+      z = std::numeric_limits<double>::infinity();
+      for (const auto& [difference, gradient] : pairs) {
+        const double sigma = std::sqrt(std::max(gradient.dot(cov * gradient), 1e-300));
+        z = std::min(z, std::abs(difference) / sigma);
+      }
+    }
+    if (bound >= best) {
+      skipped = fmt::format("; symmetric not fitted: its BIC cannot be below {:.1f} (the free "
+                            "top's residuals with its parameter count), above the best",
+                            bound);
+    } else if (z > 2 * std::sqrt(2 * std::log(static_cast<double>(n)))) {
+      skipped = fmt::format("; symmetric not fitted: the free top's two closest principal "
+                            "moments differ by {:.1f} standard deviations",
+                            z);
+    } else {
+      fits.insert(fits.begin() + 1,
+                  FitModel(ctx, RotationModel::kSymmetricTop, SymmetricStart(free.parameters),
+                           free.use, false, Precision::kComparison));
+    }
+  }
+  size_t best = 0;
+  for (size_t m = 0; m < fits.size(); ++m) {
+    FitResult::ModelTrial trial;
+    trial.model = fits[m].model;
+    trial.parameters = fits[m].parameter_count;
+    trial.sum_sq_px2 = fits[m].sum_sq_px2;
+    trial.bic = Bic(fits[m].sum_sq_px2, n, fits[m].parameter_count);
+    trial.converged = fits[m].summary.termination_type == ceres::CONVERGENCE;
+    result->model_trials.push_back(trial);
+    if (trial.bic < result->model_trials[best].bic) best = m;
+  }
+  std::string others;
+  for (size_t m = 0; m < fits.size(); ++m) {
+    if (m == best) continue;
+    others += fmt::format("{}{} by {:.1f}", others.empty() ? "" : ", ",
+                          RotationModelName(fits[m].model),
+                          result->model_trials[m].bic - result->model_trials[best].bic);
+  }
+  result->model_reason = fmt::format(
+      "{} has the lowest Bayesian information criterion, BIC = n ln(RSS/n) + k ln n over the "
+      "same {} residual components: lower than {}{}",
+      RotationModelName(fits[best].model), n, others, skipped);
+  return fits[best];
 }
 
 }  // namespace
@@ -283,6 +545,25 @@ FitResult FitFreeFlight(const std::vector<FrameSightings>& frames, const Body& b
   // t0 at the middle frame of the window decouples position, velocity and acceleration.
   const double t0_s = world_time(window[window.size() / 2]);
 
+  // The torque-free trajectories: one per camera, sampled at its frame times.
+  FitContext ctx{sightings, cameras, options, t0_s, {}};
+  for (size_t k = 0; k < cameras.size(); ++k) {
+    std::map<double, int> sample_of;
+    for (const Sighting& s : sightings) {
+      if (s.camera == static_cast<int>(k)) sample_of.emplace(s.time_s - t0_s, 0);
+    }
+    std::vector<double> taus;
+    for (auto& [tau, index] : sample_of) {
+      index = static_cast<int>(taus.size());
+      taus.push_back(tau);
+    }
+    for (Sighting& s : sightings) {
+      if (s.camera == static_cast<int>(k)) s.sample = sample_of.at(s.time_s - t0_s);
+    }
+    ctx.trajectories.push_back(
+        std::make_shared<TorqueFreeTrajectory>(std::move(taus), options.max_step_angle_rad));
+  }
+
   // The start needs poses from a few dozen frames per camera spread over the window, not
   // all of them: PnP dominates the cost of the fit otherwise.
   std::vector<BodyPose> poses;
@@ -305,6 +586,9 @@ FitResult FitFreeFlight(const std::vector<FrameSightings>& frames, const Body& b
   std::stable_sort(poses.begin(), poses.end(),
                    [](const BodyPose& a, const BodyPose& b) { return a.time_s < b.time_s; });
   FlightParameters initial = InitialiseFlight(poses, t0_s, options);
+  initial.max_step_angle_rad = options.max_step_angle_rad;
+  initial.time_offsets_s.resize(cameras.size());
+  for (size_t k = 0; k < cameras.size(); ++k) initial.time_offsets_s[k] = OffsetOf(options, static_cast<int>(k));
 
   FitResult result;
   // The window is reported in the frames of the first camera with sightings in it (the
@@ -322,44 +606,49 @@ FitResult FitFreeFlight(const std::vector<FrameSightings>& frames, const Body& b
   }
   result.frames_used = static_cast<int>(window.size());
 
-  // Pass 1: robust, from the closed-form start.
-  ParameterBlocks blocks(initial);
-  std::vector<bool> use(sightings.size(), true);
-  {
-    auto problem = BuildProblem(sightings, use, t0_s, cameras, options, true, &blocks);
-    Solve(problem.get(), options);
-  }
-  // Pass 2 (and a third when the set of outliers changes): plain least squares on the
-  // sightings within `outlier_threshold_sigma` robust standard deviations.
-  std::unique_ptr<ceres::Problem> problem;
-  ceres::Solver::Summary summary;
-  for (int round = 0; round < 3; ++round) {
-    const FlightParameters current = blocks.ToParameters(t0_s);
-    const std::vector<Eigen::Vector2d> r = Residuals(sightings, current, cameras, options);
-    std::vector<Eigen::Vector2d> inlier_r;
-    for (size_t i = 0; i < r.size(); ++i) {
-      if (use[i]) inlier_r.push_back(r[i]);
+  // The rotation models: the one asked for, or all three and the choice by BIC on a
+  // common set of inliers (those of the richest model, which fits every kind of throw).
+  const std::vector<bool> all(sightings.size(), true);
+  ModelFit chosen;
+  switch (options.rotation) {
+    case RotationChoice::kConstantSpin:
+      chosen = FitModel(ctx, RotationModel::kConstantSpin, initial, all, true, Precision::kPrecise);
+      break;
+    case RotationChoice::kSymmetricTop:
+    case RotationChoice::kFreeTop: {
+      const RotationModel model = options.rotation == RotationChoice::kFreeTop
+                                      ? RotationModel::kFreeTop
+                                      : RotationModel::kSymmetricTop;
+      chosen = FitModel(ctx, model, InitialiseTorqueFree(poses, initial, model, options), all,
+                        true, Precision::kPrecise);
+      break;
     }
-    const double sigma = RobustSigma(round == 0 ? r : inlier_r);
-    const double limit_px = options.outlier_threshold_sigma * std::max(sigma, 1e-6);
-    std::vector<bool> next(sightings.size());
-    for (size_t i = 0; i < r.size(); ++i) next[i] = r[i].norm() <= limit_px;
-    if (round > 0 && next == use) break;
-    use = next;
-    problem = BuildProblem(sightings, use, t0_s, cameras, options, false, &blocks);
-    summary = Solve(problem.get(), options);
+    case RotationChoice::kAuto: {
+      chosen = ChooseRotationModel(ctx, poses, initial, &result);
+      // The chosen model to full precision on the common inliers.
+      chosen = FitModel(ctx, chosen.model, chosen.parameters, chosen.use, false, Precision::kPrecise);
+      break;
+    }
+  }
+  if (options.rotation != RotationChoice::kAuto) {
+    result.model_reason = fmt::format("{} was asked for", RotationModelName(chosen.model));
   }
 
-  const FlightParameters fitted = blocks.ToParameters(t0_s);
+  // The chosen model's problem again (plain least squares on its inliers) for the
+  // Jacobian and the covariance.
+  ParameterBlocks blocks(chosen.parameters, static_cast<int>(cameras.size()));
+  ModelProblem mp = BuildProblem(ctx, chosen.model, chosen.use, false, &blocks);
+  const std::vector<bool>& use = chosen.use;
+  const FlightParameters fitted = chosen.parameters;
   result.parameters = fitted;
-  result.converged = summary.termination_type == ceres::CONVERGENCE;
-  result.termination = summary.message;
-  result.iterations = static_cast<int>(summary.iterations.size());
+  result.converged = chosen.summary.termination_type == ceres::CONVERGENCE;
+  result.termination = chosen.summary.message;
+  result.iterations = static_cast<int>(chosen.summary.iterations.size());
   result.observations = static_cast<int>(sightings.size());
   result.outliers = static_cast<int>(std::count(use.begin(), use.end(), false));
 
   // Residuals and the noise estimate: s^2 = sum r^2 / (n_residuals - n_parameters).
-  const std::vector<Eigen::Vector2d> r = Residuals(sightings, fitted, cameras, options);
+  const std::vector<Eigen::Vector2d> r = Residuals(ctx, fitted);
   double sum_sq = 0.0;
   int n_inliers = 0;
   for (size_t i = 0; i < sightings.size(); ++i) {
@@ -370,8 +659,7 @@ FitResult FitFreeFlight(const std::vector<FrameSightings>& frames, const Body& b
       ++n_inliers;
     }
   }
-  const bool gravity_fixed = options.gravity_mode == GravityMode::kFixed;
-  Eigen::MatrixXd jacobian = DenseJacobian(problem.get(), &blocks, gravity_fixed);
+  Eigen::MatrixXd jacobian = DenseJacobian(mp);
   // Parameters actually determined: tangent size less the fixed and the null directions.
   Eigen::JacobiSVD<Eigen::MatrixXd> svd(jacobian);
   const Eigen::VectorXd sv = svd.singularValues();
@@ -394,14 +682,33 @@ FitResult FitFreeFlight(const std::vector<FrameSightings>& frames, const Body& b
     for (size_t k = 0; k < cameras.size(); ++k) {
       result.rms_px_per_camera.push_back(
           count_of[k] > 0 ? std::sqrt(sum_sq_of[k] / (2.0 * count_of[k])) : 0.0);
-      result.time_offsets_s.push_back(OffsetOf(options, static_cast<int>(k)));
-      result.sigma_time_offsets_s.push_back(0.0);
+    }
+  }
+
+  // Whether the data determine the principal axes and moments of a torque-free model:
+  // not when the body spun about a principal axis (then the constant-spin model says the
+  // same with fewer parameters, and a fit asked to estimate them has nothing to go on).
+  if (chosen.model != RotationModel::kConstantSpin && !options.held_inertia) {
+    const int first = ColumnOf(mp, blocks.principal);
+    const int size = (chosen.model == RotationModel::kSymmetricTop) ? 3 : 5;
+    Eigen::SelfAdjointEigenSolver<Eigen::MatrixXd> eig(MarginalInformation(jacobian, first, size));
+    const double largest = std::max(eig.eigenvalues().maxCoeff(), 1e-300);
+    // In radians and moment ratios alike, a 1-sigma of 0.2 is no determination.
+    const double smallest_sigma = result.sigma_px / std::sqrt(std::max(eig.eigenvalues().minCoeff(), 1e-300));
+    result.inertia_determined = eig.eigenvalues().minCoeff() > 1e-9 * largest && smallest_sigma < 0.2;
+    if (!result.inertia_determined) {
+      result.warnings.push_back(fmt::format(
+          "The {} rotation model was fitted, but the flight does not determine the principal "
+          "axes and moment ratios (the body turned about a principal axis, or too little of "
+          "its wobble is seen): they are reported as null.",
+          RotationModelName(chosen.model)));
     }
   }
 
   // Observability of the CM in the body frame.
   const double layout_size_m = std::max(LayoutSize(body), 1e-3);
-  result.cm = AnalyseCm(jacobian, gravity_fixed, result.sigma_px, layout_size_m, options);
+  const int cm_column = ColumnOf(mp, blocks.c);
+  result.cm = AnalyseCm(jacobian, cm_column, result.sigma_px, layout_size_m, options);
   if (!result.cm.unobservable_body.empty()) {
     // Fix the gauge at the representative of the CM line nearest the body origin, and take
     // the covariance there. The in-plane part of c is only determined perpendicular to the
@@ -410,15 +717,16 @@ FitResult FitFreeFlight(const std::vector<FrameSightings>& frames, const Body& b
     // components (the Jacobian of a tilt then carries a lever of that distance).
     // x = r + R (m - c): c <- c - a u with r0 <- r0 - a R0 u changes no prediction.
     for (const Eigen::Vector3d& u : result.cm.unobservable_body) {
-      FlightParameters p = blocks.ToParameters(t0_s);
+      FlightParameters p = blocks.ToParameters();
       const double a = u.dot(p.cm_body_m);
       p.cm_body_m -= a * u;
       p.r0_world_m -= a * (p.WorldFromBodyAt(t0_s) * u);
-      blocks = ParameterBlocks(p);
+      blocks = ParameterBlocks(p, static_cast<int>(cameras.size()));
     }
-    jacobian = DenseJacobian(problem.get(), &blocks, gravity_fixed);
-    result.cm = AnalyseCm(jacobian, gravity_fixed, result.sigma_px, layout_size_m, options);
-    result.parameters = blocks.ToParameters(t0_s);
+    mp = BuildProblem(ctx, chosen.model, use, false, &blocks);
+    jacobian = DenseJacobian(mp);
+    result.cm = AnalyseCm(jacobian, cm_column, result.sigma_px, layout_size_m, options);
+    result.parameters = blocks.ToParameters();
   }
   // Covariance by Ceres: the Moore-Penrose inverse of J^T J in the tangent space, scaled
   // by s^2. The dense SVD drops exactly as many of the smallest eigenvalues as the CM has
@@ -427,30 +735,40 @@ FitResult FitFreeFlight(const std::vector<FrameSightings>& frames, const Body& b
   // parameter.
   ceres::Covariance::Options cov_options;
   cov_options.algorithm_type = ceres::DENSE_SVD;
-  cov_options.null_space_rank = static_cast<int>(result.cm.unobservable_body.size());
+  // (and, for a torque-free model the data do not support, its undetermined directions)
+  cov_options.null_space_rank =
+      std::max(static_cast<int>(result.cm.unobservable_body.size()),
+               static_cast<int>(jacobian.cols()) - rank);
   cov_options.min_reciprocal_condition_number = 1e-20;
   cov_options.num_threads = 1;
   ceres::Covariance covariance(cov_options);
-  std::vector<const double*> cov_blocks = {blocks.r0, blocks.v0, blocks.q0, blocks.w, blocks.c};
-  if (!gravity_fixed) cov_blocks.insert(cov_blocks.begin() + 2, blocks.g);
   std::vector<std::pair<const double*, const double*>> pairs;
-  for (size_t i = 0; i < cov_blocks.size(); ++i) {
-    for (size_t j = i; j < cov_blocks.size(); ++j) pairs.emplace_back(cov_blocks[i], cov_blocks[j]);
+  for (size_t i = 0; i < mp.active.size(); ++i) {
+    for (size_t j = i; j < mp.active.size(); ++j) pairs.emplace_back(mp.active[i].data, mp.active[j].data);
   }
-  result.covariance.setZero();
-  if (!covariance.Compute(pairs, problem.get())) {
+  const int layout_size = TangentSize(static_cast<int>(cameras.size()));
+  result.covariance = Eigen::MatrixXd::Zero(layout_size, layout_size);
+  if (!covariance.Compute(pairs, mp.problem.get())) {
     throw DataError("the covariance of the fit could not be computed (the problem is singular "
                     "beyond the unobservable CM directions)");
   }
-  const std::map<const double*, int> offset = {{blocks.r0, kR0}, {blocks.v0, kV0},
-                                               {blocks.g, kG},   {blocks.q0, kQ0},
-                                               {blocks.w, kOmega}, {blocks.c, kCm}};
   const double s2 = result.sigma_px * result.sigma_px;
-  for (const auto& [a, b] : pairs) {
-    Eigen::Matrix<double, 3, 3, Eigen::RowMajor> block;
-    covariance.GetCovarianceBlockInTangentSpace(a, b, block.data());
-    result.covariance.block<3, 3>(offset.at(a), offset.at(b)) = s2 * block;
-    result.covariance.block<3, 3>(offset.at(b), offset.at(a)) = s2 * block.transpose();
+  for (size_t i = 0; i < mp.active.size(); ++i) {
+    for (size_t j = i; j < mp.active.size(); ++j) {
+      const ActiveBlock& a = mp.active[i];
+      const ActiveBlock& b = mp.active[j];
+      Eigen::Matrix<double, Eigen::Dynamic, Eigen::Dynamic, Eigen::RowMajor> block(a.tangent(),
+                                                                                   b.tangent());
+      covariance.GetCovarianceBlockInTangentSpace(a.data, b.data, block.data());
+      const Eigen::MatrixXd mapped = s2 * a.embed * block * b.embed.transpose();
+      result.covariance.block(a.layout, b.layout, mapped.rows(), mapped.cols()) = mapped;
+      result.covariance.block(b.layout, a.layout, mapped.cols(), mapped.rows()) = mapped.transpose();
+    }
+  }
+  for (size_t k = 0; k < cameras.size(); ++k) {
+    result.time_offsets_s.push_back(result.parameters.time_offsets_s[k]);
+    result.sigma_time_offsets_s.push_back(
+        std::sqrt(std::max(result.covariance(kTimeOffsets + k, kTimeOffsets + k), 0.0)));
   }
 
   // The covariance of c's observable part: projected off the unobservable directions.
@@ -472,7 +790,7 @@ FitResult FitFreeFlight(const std::vector<FrameSightings>& frames, const Body& b
         u.x(), u.y(), u.z(), axis_world.x(), axis_world.y(), axis_world.z()));
   }
   if (!result.converged) {
-    result.warnings.push_back("The fit did not converge: " + summary.message);
+    result.warnings.push_back("The fit did not converge: " + chosen.summary.message);
   }
   if (result.outliers > 0) {
     result.warnings.push_back(fmt::format(

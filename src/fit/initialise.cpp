@@ -10,33 +10,11 @@
 #include <opencv2/core/eigen.hpp>
 
 #include "tumbletrace/core/error.hpp"
+#include "tumbletrace/fit/rotation_math.hpp"
 #include "tumbletrace/model/camera_opencv.hpp"
 
 namespace tumbletrace {
 namespace {
-
-// Rotation vector of a rotation matrix (log map), radians.
-Eigen::Vector3d LogRotation(const Eigen::Matrix3d& r) {
-  const Eigen::AngleAxisd aa(r);
-  return aa.angle() * aa.axis();
-}
-
-Eigen::Matrix3d ExpRotation(const Eigen::Vector3d& w) {
-  const double angle = w.norm();
-  if (angle < 1e-15) return Eigen::Matrix3d::Identity();
-  return Eigen::AngleAxisd(angle, w / angle).toRotationMatrix();
-}
-
-// The mean rotation: the principal eigenvector of sum(q q^T) over unit quaternions
-// (Markley, Cheng, Crassidis, Oshman, "Averaging Quaternions", J. Guidance, Control and
-// Dynamics 30(4), 2007 — from memory); insensitive to the sign of each q.
-Eigen::Quaterniond MeanRotation(const std::vector<Eigen::Quaterniond>& qs) {
-  Eigen::Matrix4d m = Eigen::Matrix4d::Zero();
-  for (const auto& q : qs) m += q.coeffs() * q.coeffs().transpose();
-  Eigen::SelfAdjointEigenSolver<Eigen::Matrix4d> eig(m);
-  const Eigen::Vector4d v = eig.eigenvectors().col(3);
-  return Eigen::Quaterniond(v[3], v[0], v[1], v[2]).normalized();  // coeffs are x y z w
-}
 
 double Median(std::vector<double> v) {
   const auto mid = v.begin() + v.size() / 2;
@@ -208,6 +186,18 @@ FlightParameters InitialiseFlight(const std::vector<BodyPose>& poses, double t0_
   }
   p.q0_wxyz = {q0.w(), q0.x(), q0.y(), q0.z()};
 
+  std::vector<Eigen::Matrix3d> rotations;
+  for (const BodyPose& pose : poses) {
+    rotations.push_back(ExpRotation(p.omega_world_radps * (pose.time_s - t0_s)) *
+                        q0.toRotationMatrix());
+  }
+  SolveTranslationAndCm(poses, rotations, options, &p);
+  return p;
+}
+
+void SolveTranslationAndCm(const std::vector<BodyPose>& poses,
+                           const std::vector<Eigen::Matrix3d>& world_from_body,
+                           const FitOptions& options, FlightParameters* p) {
   // Closed form: p_k = r0 + v0 dt + g dt^2/2 - R(t_k) c, rows per frame and axis.
   const bool estimate_g = options.gravity_mode == GravityMode::kEstimate;
   const int n_unknowns = estimate_g ? 12 : 9;
@@ -215,8 +205,8 @@ FlightParameters InitialiseFlight(const std::vector<BodyPose>& poses, double t0_
   Eigen::MatrixXd a = Eigen::MatrixXd::Zero(n_rows + 3, n_unknowns);
   Eigen::VectorXd b = Eigen::VectorXd::Zero(n_rows + 3);
   for (size_t k = 0; k < poses.size(); ++k) {
-    const double dt = poses[k].time_s - t0_s;
-    const Eigen::Matrix3d r_k = ExpRotation(p.omega_world_radps * dt) * q0.toRotationMatrix();
+    const double dt = poses[k].time_s - p->t0_s;
+    const Eigen::Matrix3d& r_k = world_from_body[k];
     const int row = 3 * static_cast<int>(k);
     a.block<3, 3>(row, 0).setIdentity();
     a.block<3, 3>(row, 3) = dt * Eigen::Matrix3d::Identity();
@@ -235,11 +225,10 @@ FlightParameters InitialiseFlight(const std::vector<BodyPose>& poses, double t0_
                                           n_unknowns));
   a.block<3, 3>(n_rows, 6) = ridge * Eigen::Matrix3d::Identity();
   const Eigen::VectorXd x = a.colPivHouseholderQr().solve(b);
-  p.r0_world_m = x.segment<3>(0);
-  p.v0_world_mps = x.segment<3>(3);
-  p.cm_body_m = x.segment<3>(6);
-  p.g_world_mps2 = estimate_g ? Eigen::Vector3d(x.segment<3>(9)) : options.gravity_world_mps2;
-  return p;
+  p->r0_world_m = x.segment<3>(0);
+  p->v0_world_mps = x.segment<3>(3);
+  p->cm_body_m = x.segment<3>(6);
+  p->g_world_mps2 = estimate_g ? Eigen::Vector3d(x.segment<3>(9)) : options.gravity_world_mps2;
 }
 
 }  // namespace tumbletrace

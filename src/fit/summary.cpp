@@ -4,6 +4,8 @@
 
 #include <Eigen/Dense>
 #include <cmath>
+#include <algorithm>
+#include <array>
 #include <functional>
 
 #include "tumbletrace/model/mass_properties.hpp"
@@ -11,7 +13,6 @@
 namespace tumbletrace {
 namespace {
 
-using Tangent = Eigen::Matrix<double, kTangentSize, 1>;
 using Function = std::function<Eigen::VectorXd(const FlightParameters&)>;
 
 // First-order propagation: Sigma_f = J Sigma J^T, J by central differences in the
@@ -19,10 +20,12 @@ using Function = std::function<Eigen::VectorXd(const FlightParameters&)>;
 Eigen::MatrixXd Propagate(const FlightParameters& p, const Eigen::MatrixXd& covariance,
                           const Function& f) {
   const Eigen::VectorXd f0 = f(p);
-  Eigen::MatrixXd j(f0.size(), kTangentSize);
+  const int n = static_cast<int>(covariance.rows());
+  Eigen::MatrixXd j = Eigen::MatrixXd::Zero(f0.size(), n);
   constexpr double h = 1e-7;
-  for (int k = 0; k < kTangentSize; ++k) {
-    Tangent d = Tangent::Zero();
+  for (int k = 0; k < n; ++k) {
+    if (covariance(k, k) == 0.0) continue;  // a block this model does not have
+    Eigen::VectorXd d = Eigen::VectorXd::Zero(n);
     d[k] = h;
     j.col(k) = (f(Perturb(p, d)) - f(Perturb(p, -d))) / (2 * h);
   }
@@ -38,17 +41,79 @@ bool AxisUndetermined(const Eigen::Vector3d& axis, const std::vector<Eigen::Vect
   return false;
 }
 
-FlightParameters Perturb(const FlightParameters& p, const Tangent& d) {
+FlightParameters Perturb(const FlightParameters& p, const Eigen::VectorXd& d) {
   FlightParameters out = p;
   out.r0_world_m += d.segment<3>(kR0);
   out.v0_world_mps += d.segment<3>(kV0);
   out.g_world_mps2 += d.segment<3>(kG);
   ceres::QuaternionManifold manifold;
-  manifold.Plus(p.q0_wxyz.data(), d.segment<3>(kQ0).data(), out.q0_wxyz.data());
+  const Eigen::Vector3d dq0 = d.segment<3>(kQ0);
+  manifold.Plus(p.q0_wxyz.data(), dq0.data(), out.q0_wxyz.data());
   out.omega_world_radps += d.segment<3>(kOmega);
   out.cm_body_m += d.segment<3>(kCm);
+  const Eigen::Vector3d dp = d.segment<3>(kPrincipal);
+  manifold.Plus(p.body_from_principal_wxyz.data(), dp.data(), out.body_from_principal_wxyz.data());
+  out.moments_sd += d.segment<2>(kMoments);
+  for (size_t k = 0; k < out.time_offsets_s.size() && kTimeOffsets + k < size_t(d.size()); ++k) {
+    out.time_offsets_s[k] += d[kTimeOffsets + k];
+  }
   return out;
 }
+
+namespace {
+
+// Principal moments ascending with their axes (columns), from the fitted frame and [s, d].
+PrincipalAxes SortedPrincipal(const FlightParameters& p) {
+  const Eigen::Matrix3d axes = p.BodyFromPrincipal();
+  Eigen::Vector3d moments = p.Moments();
+  std::array<int, 3> order = {0, 1, 2};
+  std::sort(order.begin(), order.end(), [&](int a, int b) { return moments[a] < moments[b]; });
+  PrincipalAxes out;
+  for (int k = 0; k < 3; ++k) {
+    out.moments_kgm2[k] = moments[order[k]];
+    Eigen::Vector3d a = axes.col(order[k]);
+    Eigen::Index i_max;
+    a.cwiseAbs().maxCoeff(&i_max);
+    out.axes_body.col(k) = a[i_max] < 0 ? Eigen::Vector3d(-a) : a;
+  }
+  return out;
+}
+
+Eigen::Vector3d AngularMomentumDirection(const FlightParameters& p) {
+  if (p.rotation_model == RotationModel::kConstantSpin) return p.omega_world_radps.normalized();
+  const Eigen::Matrix3d r0 = p.WorldFromBodyAt(p.t0_s);
+  const Eigen::Matrix3d axes = p.BodyFromPrincipal();
+  const Eigen::Vector3d w_principal = axes.transpose() * r0.transpose() * p.omega_world_radps;
+  return (r0 * axes * p.Moments().cwiseProduct(w_principal)).normalized();
+}
+
+// Zero crossings of the intermediate axis's component along the angular momentum, when it
+// comes within 45 degrees of it (a tumble about the intermediate axis, not a wobble about
+// the largest or the smallest).
+std::vector<double> FlipTimes(const FlightParameters& p, const std::vector<double>& times) {
+  std::vector<double> flips;
+  if (p.rotation_model != RotationModel::kFreeTop || times.size() < 2) return flips;
+  const PrincipalAxes principal = SortedPrincipal(p);
+  const Eigen::Vector3d intermediate = principal.axes_body.col(1);
+  const Eigen::Vector3d l = AngularMomentumDirection(p);
+  std::vector<Eigen::Matrix3d> rotations;
+  p.RotationAt(times, &rotations, nullptr);
+  std::vector<double> c(times.size());
+  double largest = 0.0;
+  for (size_t i = 0; i < times.size(); ++i) {
+    c[i] = (rotations[i] * intermediate).dot(l);
+    largest = std::max(largest, std::abs(c[i]));
+  }
+  if (largest < std::cos(M_PI / 4)) return flips;
+  for (size_t i = 1; i < c.size(); ++i) {
+    if ((c[i - 1] < 0) != (c[i] < 0)) {
+      flips.push_back(times[i - 1] + (times[i] - times[i - 1]) * c[i - 1] / (c[i - 1] - c[i]));
+    }
+  }
+  return flips;
+}
+
+}  // namespace
 
 FlightSummary Summarise(const FitResult& fit, const Body& body) {
   FlightSummary s;
@@ -141,6 +206,65 @@ FlightSummary Summarise(const FitResult& fit, const Body& body) {
   s.gravity_world_mps2 = p.g_world_mps2;
   const Eigen::Matrix3d cov_g = cov.block<3, 3>(kG, kG);
   if (cov_g.trace() > 0) s.sigma_gravity_mps2 = cov_g.diagonal().cwiseSqrt();
+
+  // Rotation: model, inertia, angular momentum, flips.
+  s.rotation_model = p.rotation_model;
+  s.rotation_reason = fit.model_reason;
+  s.angular_momentum_world_unit = AngularMomentumDirection(p);
+  {
+    const Eigen::MatrixXd cov_l = Propagate(p, cov, [](const FlightParameters& q) {
+      return Eigen::VectorXd(AngularMomentumDirection(q));
+    });
+    s.sigma_angular_momentum_deg = std::sqrt(std::max(cov_l.trace(), 0.0)) * 180.0 / M_PI;
+  }
+  const bool inertia_known = fit.inertia_determined || fit.covariance.block<2, 2>(kMoments, kMoments).trace() == 0.0;
+  if (p.rotation_model != RotationModel::kConstantSpin && inertia_known) {
+    const PrincipalAxes principal = SortedPrincipal(p);
+    const Eigen::Vector3d& m = principal.moments_kgm2;
+    s.inertia_ratios = Eigen::Vector2d(m[0] / m[2], m[1] / m[2]);
+    s.inertia_held = cov.block<2, 2>(kMoments, kMoments).trace() == 0.0;
+    if (!s.inertia_held) {
+      const Eigen::MatrixXd cov_ratios = Propagate(p, cov, [](const FlightParameters& q) {
+        const Eigen::Vector3d mq = SortedPrincipal(q).moments_kgm2;
+        return Eigen::VectorXd(Eigen::Vector2d(mq[0] / mq[2], mq[1] / mq[2]));
+      });
+      s.inertia_sigma_ratios = cov_ratios.diagonal().cwiseMax(0).cwiseSqrt();
+    }
+    // The rotation vector of the principal frame (body frame) is twice Ceres' quaternion
+    // tangent; an axis a tilts by |theta x a|.
+    const Eigen::Matrix3d cov_theta = 4.0 * cov.block<3, 3>(kPrincipal, kPrincipal);
+    for (int k = 0; k < 3; ++k) {
+      const Eigen::Vector3d a = principal.axes_body.col(k);
+      // A symmetric top determines its symmetry axis only (the unequal moment's).
+      const int symmetry_axis = std::abs(m[1] - m[0]) < std::abs(m[2] - m[1]) ? 2 : 0;
+      if (p.rotation_model == RotationModel::kSymmetricTop && k != symmetry_axis) continue;
+      s.inertia_axes_body[k] = a;
+      if (!s.inertia_held) {
+        const Eigen::Matrix3d perpendicular = Eigen::Matrix3d::Identity() - a * a.transpose();
+        s.inertia_sigma_axes_deg[k] =
+            std::sqrt(std::max((perpendicular * cov_theta * perpendicular).trace(), 0.0)) * 180.0 / M_PI;
+      }
+    }
+    std::vector<double> times;
+    for (const ResidualRecord& r : fit.residuals) times.push_back(r.time_s);
+    std::sort(times.begin(), times.end());
+    times.erase(std::unique(times.begin(), times.end()), times.end());
+    s.flip_times_s = FlipTimes(p, times);
+  }
+
+  // Energy at launch.
+  s.translational_energy_per_mass_jpkg = 0.5 * s.launch_velocity_mps.squaredNorm();
+  if (!body.parts.empty()) {
+    const MassProperties design = CombineParts(body.parts);
+    const double rotational_j = 0.5 * s.omega_body_radps.dot(design.inertia_about_cm_kgm2 * s.omega_body_radps);
+    s.rotational_energy_per_mass_jpkg = rotational_j / design.mass_kg;
+    s.rotational_energy_j = rotational_j;
+    s.translational_energy_j = design.mass_kg * s.translational_energy_per_mass_jpkg;
+  }
+
+  s.time_offsets_s = fit.time_offsets_s;
+  s.sigma_time_offsets_s = fit.sigma_time_offsets_s;
+  s.rms_px_per_camera = fit.rms_px_per_camera;
   return s;
 }
 

@@ -18,12 +18,13 @@ namespace tumbletrace {
 //   r(t) = r0 + v0 dt + g dt^2 / 2,   v(t) = v0 + g dt
 // Parameter blocks: r0 [m], v0 [m/s], g [m/s^2], all at t0 in the world frame.
 struct BallisticTranslation {
-  template <typename T>
+  // dt may be a plain double or a T (a camera's clock offset being estimated).
+  template <typename T, typename D>
   static void Position(const T* r0_world_m, const T* v0_world_mps, const T* g_world_mps2,
-                       double dt_s, T* r_world_m) {
+                       const D& dt_s, T* r_world_m) {
     for (int i = 0; i < 3; ++i) {
       r_world_m[i] = r0_world_m[i] + v0_world_mps[i] * dt_s +
-                     T(0.5 * dt_s * dt_s) * g_world_mps2[i];
+                     (0.5 * dt_s * dt_s) * g_world_mps2[i];
     }
   }
   template <typename T>
@@ -41,9 +42,9 @@ struct BallisticTranslation {
 // section 36 — from memory; it follows from Euler's equations with w parallel to I w).
 // Parameter blocks: q0 (unit quaternion, body to world at t0), w [rad/s, world].
 struct ConstantSpinRotation {
-  template <typename T>
+  template <typename T, typename D>
   static void Orientation(const T* q0_world_from_body, const T* omega_world_radps,
-                          double dt_s, T* q_world_from_body) {
+                          const D& dt_s, T* q_world_from_body) {
     const T angle_axis[3] = {omega_world_radps[0] * dt_s, omega_world_radps[1] * dt_s,
                              omega_world_radps[2] * dt_s};
     T dq[4];

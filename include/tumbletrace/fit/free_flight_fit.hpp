@@ -16,10 +16,30 @@
 #include <vector>
 
 #include "tumbletrace/fit/observations.hpp"
+#include "tumbletrace/fit/torque_free.hpp"
 #include "tumbletrace/model/body.hpp"
 #include "tumbletrace/model/camera.hpp"
 
 namespace tumbletrace {
+
+// How the body turns (fit/flight_model.hpp, fit/torque_free_rotation.hpp).
+enum class RotationModel {
+  kConstantSpin,   // constant angular velocity: a spin about a principal axis
+  kSymmetricTop,   // torque-free, two equal principal moments: the symmetry axis precesses
+  kFreeTop,        // torque-free, three unequal moments: wobble, tumble, flips
+};
+// The name results.json uses ("constant-spin", "symmetric", "free").
+const char* RotationModelName(RotationModel model);
+
+// Which rotation models the fit tries: one, or all three with the choice by the Bayesian
+// information criterion (the simplest model wins unless a richer one lowers the BIC).
+enum class RotationChoice { kAuto, kConstantSpin, kSymmetricTop, kFreeTop };
+
+// Principal axes and moments held fixed (from the parts list), body frame.
+struct HeldInertia {
+  Eigen::Matrix3d axes_body = Eigen::Matrix3d::Identity();  // column k: principal axis k
+  Eigen::Vector3d moments = Eigen::Vector3d::Ones();        // any common scale
+};
 
 enum class GravityMode {
   kFixed,          // g from the session, held fixed
@@ -44,6 +64,11 @@ struct FitOptions {
   // every camera but the first, which sets the clock.
   std::vector<double> time_offsets_s;
   bool estimate_time_offsets = false;
+  RotationChoice rotation = RotationChoice::kAuto;
+  // Hold the principal axes and moment ratios (torque-free models) instead of estimating.
+  std::optional<HeldInertia> held_inertia;
+  // Step bound of the torque-free integrator: the largest turn of the body per RK4 step.
+  double max_step_angle_rad = kTorqueFreeMaxStepAngleRad;
 
   // Empty when valid, otherwise the reason.
   std::string Validate() const;
@@ -56,21 +81,39 @@ struct FlightParameters {
   Eigen::Vector3d v0_world_mps = Eigen::Vector3d::Zero();
   Eigen::Vector3d g_world_mps2 = Eigen::Vector3d::Zero();
   Eigen::Vector4d q0_wxyz = {1, 0, 0, 0};  // body to world
-  Eigen::Vector3d omega_world_radps = Eigen::Vector3d::Zero();
+  Eigen::Vector3d omega_world_radps = Eigen::Vector3d::Zero();  // at t0
   Eigen::Vector3d cm_body_m = Eigen::Vector3d::Zero();
+  RotationModel rotation_model = RotationModel::kConstantSpin;
+  // Torque-free models: the principal frame in the body (body from principal) and the
+  // moments (I1, I2, I3) = (s - d, s + d, 1) as [s, d].
+  Eigen::Vector4d body_from_principal_wxyz = {1, 0, 0, 0};
+  Eigen::Vector2d moments_sd = {1, 0};
+  // Per camera: world time = frame time + offset (the first camera's is 0).
+  std::vector<double> time_offsets_s;
+  double max_step_angle_rad = kTorqueFreeMaxStepAngleRad;  // integrator step bound
 
+  Eigen::Vector3d Moments() const { return {moments_sd[0] - moments_sd[1], moments_sd[0] + moments_sd[1], 1.0}; }
+  Eigen::Matrix3d BodyFromPrincipal() const;
   Eigen::Vector3d PositionAt(double t_s) const;
   Eigen::Vector3d VelocityAt(double t_s) const;
   Eigen::Matrix3d WorldFromBodyAt(double t_s) const;
   Eigen::Vector3d OmegaWorldAt(double t_s) const;
+  // Orientation and world angular velocity at many times (one integration for all).
+  void RotationAt(const std::vector<double>& t_s, std::vector<Eigen::Matrix3d>* world_from_body,
+                  std::vector<Eigen::Vector3d>* omegas_world_radps) const;
   // Model prediction of a marker's pixel; false when behind the camera.
   bool PredictPixel(const Camera& camera, const Eigen::Vector3d& marker_body_m, double t_s,
                     Eigen::Vector2d* pixel) const;
 };
 
-// Order of the tangent-space covariance: r0 (3), v0 (3), g (3), q0 (3), w (3), c (3).
-enum CovarianceBlock { kR0 = 0, kV0 = 3, kG = 6, kQ0 = 9, kOmega = 12, kCm = 15 };
-constexpr int kTangentSize = 18;
+// Order of the tangent-space covariance: r0 (3), v0 (3), g (3), q0 (3), w (3), c (3),
+// principal axes (3: a rotation vector in the body frame, exp(d) p), moments (2: s, d),
+// then one clock offset per camera. Blocks a model does not have are zero.
+enum CovarianceBlock {
+  kR0 = 0, kV0 = 3, kG = 6, kQ0 = 9, kOmega = 12, kCm = 15, kPrincipal = 18, kMoments = 21,
+  kTimeOffsets = 23
+};
+inline int TangentSize(int cameras) { return kTimeOffsets + cameras; }
 
 struct ResidualRecord {
   int camera = 0;
@@ -105,7 +148,19 @@ struct FitResult {
   int degrees_of_freedom = 0;
   // Tangent-space covariance scaled by sigma_px^2 (order of CovarianceBlock). Entries
   // involving unobservable directions are meaningless and must not be reported.
-  Eigen::Matrix<double, kTangentSize, kTangentSize> covariance;
+  Eigen::MatrixXd covariance;
+  // The rotation models tried, with the criterion that chose among them.
+  struct ModelTrial {
+    RotationModel model = RotationModel::kConstantSpin;
+    int parameters = 0;        // estimated parameters (tangent dimensions)
+    double sum_sq_px2 = 0.0;   // over the common inlier sightings
+    double bic = 0.0;          // n ln(RSS/n) + k ln n, n residual components
+    bool converged = false;
+  };
+  std::vector<ModelTrial> model_trials;  // empty when one model was asked for
+  // Torque-free models: whether the data determine the principal axes and moments.
+  bool inertia_determined = false;
+  std::string model_reason;             // why this model, in words
   CmObservability cm;
   // Per camera: the clock offsets (held or estimated; 1-sigma 0 when held) and the rms of
   // the inlier residual components, px.

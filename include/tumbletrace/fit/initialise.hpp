@@ -29,8 +29,36 @@ std::vector<BodyPose> EstimateFramePoses(const std::vector<FrameSightings>& fram
                                          const Body& body, const Camera& camera,
                                          int min_markers);
 
-// Closed-form first pass. Throws DataError when fewer than 3 frames are posed.
+// Closed-form first pass (constant spin). Throws DataError when fewer than 3 frames are
+// posed.
 FlightParameters InitialiseFlight(const std::vector<BodyPose>& poses, double t0_s,
                                   const FitOptions& options);
+
+// Step 3 alone: r0, v0, c (and g when estimated) given the body's orientation at each
+// posed frame; p->t0_s must be set.
+void SolveTranslationAndCm(const std::vector<BodyPose>& poses,
+                           const std::vector<Eigen::Matrix3d>& world_from_body,
+                           const FitOptions& options, FlightParameters* p);
+
+// Start of a torque-free model (symmetric or free top) from the posed frames and the
+// constant-spin start `spin` (same t0):
+// 1. body angular velocities w_k from neighbouring poses; the inertia tensor J (up to
+//    scale) and the world angular momentum L from the linear conditions R_k J w_k = L
+//    (conservation of angular momentum), the null vector of the stacked system; J's
+//    eigenvectors and eigenvalues give the principal axes and moment ratios. When the
+//    data leave J undetermined (a spin about a fixed axis) the start is a spin about a
+//    principal axis along the constant-spin start's axis, which predicts the same motion.
+// 2. the rotation alone fitted to the poses' orientations by Ceres over windows growing
+//    from the middle of the flight outwards (the torque-free motion is strongly nonlinear
+//    in its parameters over many turns).
+// 3. the translation and the CM by SolveTranslationAndCm.
+// `held`: principal axes and moments held fixed instead.
+// A symmetric top's start from a free top's parameters: the axis whose moment differs
+// most from the other two becomes the symmetry axis, the other two moments their mean.
+FlightParameters SymmetricStart(const FlightParameters& free_top);
+
+FlightParameters InitialiseTorqueFree(const std::vector<BodyPose>& poses,
+                                      const FlightParameters& spin, RotationModel model,
+                                      const FitOptions& options);
 
 }  // namespace tumbletrace

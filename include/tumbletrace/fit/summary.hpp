@@ -69,13 +69,44 @@ struct FlightSummary {
 
   Eigen::Vector3d gravity_world_mps2 = Eigen::Vector3d::Zero();
   std::optional<Eigen::Vector3d> sigma_gravity_mps2;  // when estimated
+
+  // Rotation model and what the rotation tells of the body.
+  RotationModel rotation_model = RotationModel::kConstantSpin;
+  std::string rotation_reason;
+  // Principal moments as [I1/I3, I2/I3] with I1 <= I2 <= I3, when a torque-free model
+  // estimated them (or held them from the parts list: inertia_held).
+  std::optional<Eigen::Vector2d> inertia_ratios;
+  std::optional<Eigen::Vector2d> inertia_sigma_ratios;
+  bool inertia_held = false;
+  // Column k: principal axis k in the body frame (sign: largest component positive);
+  // empty where the model leaves it open (the two equal axes of a symmetric top).
+  std::array<std::optional<Eigen::Vector3d>, 3> inertia_axes_body;
+  std::array<std::optional<double>, 3> inertia_sigma_axes_deg;  // 1-sigma tilt of each axis
+  // Direction of the angular momentum in the world (constant in free flight).
+  Eigen::Vector3d angular_momentum_world_unit = Eigen::Vector3d::Zero();
+  double sigma_angular_momentum_deg = 0.0;
+  // Times (s) within the window where the intermediate axis passes through 90 degrees to
+  // the angular momentum in a tumble dominated by it (a flip); empty when none.
+  std::vector<double> flip_times_s;
+  // Energy at launch: translational and rotational per unit mass (J/kg), absolute (J)
+  // when the parts list gives the mass. The rotational part needs the inertia's scale,
+  // which the flight does not give: from the parts list only.
+  double translational_energy_per_mass_jpkg = 0.0;
+  std::optional<double> rotational_energy_per_mass_jpkg;
+  std::optional<double> translational_energy_j;
+  std::optional<double> rotational_energy_j;
+
+  // Per camera (several cameras): clock offset and its 1-sigma (0 when held), rms, px.
+  std::vector<double> time_offsets_s;
+  std::vector<double> sigma_time_offsets_s;
+  std::vector<double> rms_px_per_camera;
 };
 
 // Derives the summary of a fit.
 FlightSummary Summarise(const FitResult& fit, const Body& body);
 
-// Tangent-space perturbation of the parameters, in CovarianceBlock order (q0 by Ceres'
-// QuaternionManifold: q <- [cos|d|, sin|d| d/|d|] (x) q).
-FlightParameters Perturb(const FlightParameters& p, const Eigen::Matrix<double, kTangentSize, 1>& d);
+// Tangent-space perturbation of the parameters, in CovarianceBlock order (q0 and the
+// principal frame by Ceres' QuaternionManifold: q <- [cos|d|, sin|d| d/|d|] (x) q).
+FlightParameters Perturb(const FlightParameters& p, const Eigen::VectorXd& d);
 
 }  // namespace tumbletrace
