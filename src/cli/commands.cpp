@@ -81,7 +81,11 @@ Provenance MakeProvenance(const Session& session, const CommonOptions& common) {
   Provenance provenance;
   provenance.tool_version = TUMBLETRACE_VERSION;
   provenance.command = common.command_line;
-  provenance.input_files = {session.file, session.camera_file, session.body_file};
+  provenance.input_files = {session.file};
+  for (const SessionCamera& camera : session.cameras) {
+    provenance.input_files.push_back(camera.camera_file);
+  }
+  provenance.input_files.push_back(session.body_file);
   provenance.capture_fps = session.capture_fps;
   return provenance;
 }
@@ -103,13 +107,40 @@ void EndProgress(const CommonOptions& common) {
   if (ShowProgress(common)) std::cerr << "\n";
 }
 
+// One line per camera, each named when there are several.
 std::string TrackingSummary(const TrackingResult& t) {
-  return fmt::format(
-      "Read {} frames ({}x{} px, {}-bit {}); {} detections; {} tracks, {} identified as markers "
-      "(assignment rms {:.3f} px)\n",
-      t.frames_read, t.clip.size.width, t.clip.size.height, t.clip.bit_depth, t.clip.kind,
-      t.detections, t.identification.marker_of_track.size() + t.identification.unidentified_tracks.size(),
-      t.identification.marker_of_track.size(), t.identification.anchor_rms_px);
+  std::string text;
+  for (const CameraTracking& c : t.cameras) {
+    if (t.cameras.size() > 1) text += c.name + ": ";
+    text += fmt::format(
+        "Read {} frames ({}x{} px, {}-bit {}); {} detections; {} tracks, {} identified as "
+        "markers (assignment rms {:.3f} px)\n",
+        c.frames_read, c.clip.size.width, c.clip.size.height, c.clip.bit_depth, c.clip.kind,
+        c.detections,
+        c.identification.marker_of_track.size() + c.identification.unidentified_tracks.size(),
+        c.identification.marker_of_track.size(), c.identification.anchor_rms_px);
+  }
+  return text;
+}
+
+// Every point's marker is in the body and its camera in the session; InputError naming the
+// tracks file and line otherwise.
+void CheckTracksAgainstSession(const std::vector<TrackPoint>& tracks,
+                               const std::filesystem::path& tracks_file, const Session& session) {
+  for (const TrackPoint& p : tracks) {
+    if (p.marker && session.body.FindMarker(*p.marker) == nullptr) {
+      throw InputError(fmt::format("{}:{}: column 'marker': marker {} is not defined in {}",
+                                   tracks_file.string(), p.source_line, *p.marker,
+                                   session.body_file.string()));
+    }
+    if (p.camera >= static_cast<int>(session.cameras.size())) {
+      throw InputError(fmt::format(
+          "{}:{}: column 'camera': expected a camera index from 0 to {} (the cameras of {}), "
+          "got {}",
+          tracks_file.string(), p.source_line, session.cameras.size() - 1, session.file.string(),
+          p.camera));
+    }
+  }
 }
 
 }  // namespace
@@ -117,18 +148,12 @@ std::string TrackingSummary(const TrackingResult& t) {
 int RunFit(const FitCommandOptions& options, const CommonOptions& common) {
   const Session session = ReadSessionYaml(options.session);
   const std::vector<TrackPoint> tracks = ReadTracksCsv(options.tracks);
-  for (const TrackPoint& p : tracks) {
-    if (p.marker && session.body.FindMarker(*p.marker) == nullptr) {
-      throw InputError(fmt::format("{}:{}: column 'marker': marker {} is not defined in {}",
-                                   options.tracks.string(), p.source_line, *p.marker,
-                                   session.body_file.string()));
-    }
-  }
+  CheckTracksAgainstSession(tracks, options.tracks, session);
   FitOptions fit_options = FitOptionsFor(session, options.choices);
   fit_options.robust_loss_scale_px = options.robust_scale_px;
 
-  const FitResult fit = FitFreeFlight(GroupByFrame(tracks, session.capture_fps), session.body,
-                                      session.camera, fit_options);
+  const FitResult fit = FitFreeFlight(GroupByFrame(tracks, session.CaptureRates()), session.body,
+                                      session.CameraModels(), fit_options);
   Provenance provenance = MakeProvenance(session, common);
   provenance.input_files.push_back(options.tracks);
   WriteFitOutputs(fit, Summarise(fit, session.body), provenance, options.out_dir, common);

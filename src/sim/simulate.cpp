@@ -301,9 +301,10 @@ void WriteSimulation(const Simulation& sim, const std::filesystem::path& dir,
   WriteCameraYaml(s.camera, dir / "camera.yaml");
   WriteBodyYaml(s.body, dir / "body.yaml");
   Session session;
-  session.clip = s.video.image_folder ? dir / "frames" : dir / "clip.mp4";
   session.capture_fps = s.capture_fps;
-  session.camera_file = dir / "camera.yaml";
+  session.cameras.push_back({kSingleCameraName,
+                             s.video.image_folder ? dir / "frames" : dir / "clip.mp4",
+                             s.capture_fps, dir / "camera.yaml", s.camera, 0.0});
   session.body_file = dir / "body.yaml";
   session.gravity.vector_mps2 = s.gravity_world_mps2;
   WriteSessionYaml(session, dir / "session.yaml");

@@ -108,7 +108,7 @@ TEST(Pipeline, PlanarSpinClipWithBlurAndNoise) {
   TempDir dir("planar");
   const ClipRun run = SimulateWriteAnalyze(ClipScenario(testing::PlanarSpinScenario(0.0, 41)), dir.path());
   ExpectGoodRun(run);
-  EXPECT_EQ(run.analysis.tracking.identification.marker_of_track.size(), 6u);
+  EXPECT_EQ(run.analysis.tracking.cameras.at(0).identification.marker_of_track.size(), 6u);
 }
 
 TEST(Pipeline, ObliqueViewClip) {
@@ -142,7 +142,7 @@ TEST(Pipeline, ImageSequenceWithAMissingFrameIsReported) {
     std::filesystem::remove(d / "frames" / "frame_000137.png");
   });
   ExpectGoodRun(run, 0.1);  // lossless frames
-  const auto& missing = run.analysis.tracking.clip.missing_frames;
+  const auto& missing = run.analysis.tracking.cameras.at(0).clip.missing_frames;
   ASSERT_EQ(missing, std::vector<int>{137});
   bool warned = false;
   for (const std::string& w : run.analysis.fit.warnings) warned |= w.find("137") != std::string::npos;
@@ -188,7 +188,7 @@ TEST(Pipeline, PlaybackRateAsCaptureRateIsWarned) {
   s.frames = 80;
   WriteSimulation(SimulateFlight(s), dir.path(), {});
   Session session = ReadSessionYaml(dir.path() / "session.yaml");
-  session.capture_fps = 30;  // the file's playback rate, taken for the capture rate
+  session.cameras[0].capture_fps = 30;  // the file's playback rate, taken for the capture rate
   const TrackingResult tracking = TrackClip(session, TrackingOptions{}, {});
   bool warned = false;
   for (const std::string& w : tracking.warnings) warned |= w.find("capture") != std::string::npos;
