@@ -5,31 +5,15 @@
 
 #include <gtest/gtest.h>
 
-#include <unistd.h>
-
 #include <fstream>
 
 #include "support/scenarios.hpp"
+#include "support/temp_dir.hpp"
 #include "tumbletrace/core/error.hpp"
 #include "tumbletrace/sim/simulate.hpp"
 
 namespace tumbletrace {
 namespace {
-
-class TempDir {
- public:
-  explicit TempDir(const std::string& name)
-      : path_(std::filesystem::temp_directory_path() /
-              ("tumbletrace_pipeline_" + name + "_" + std::to_string(::getpid()))) {
-    std::filesystem::remove_all(path_);
-    std::filesystem::create_directories(path_);
-  }
-  ~TempDir() { std::filesystem::remove_all(path_); }
-  const std::filesystem::path& path() const { return path_; }
-
- private:
-  std::filesystem::path path_;
-};
 
 Scenario ClipScenario(Scenario s) {
   s.exposure_s = 0.0002;       // blur of up to about 0.5 px
@@ -105,19 +89,19 @@ void ExpectGoodRun(const ClipRun& run, double max_centre_rms_px = 0.15) {
 }
 
 TEST(Pipeline, PlanarSpinClipWithBlurAndNoise) {
-  TempDir dir("planar");
+  testing::TempDir dir("pipeline_planar");
   const ClipRun run = SimulateWriteAnalyze(ClipScenario(testing::PlanarSpinScenario(0.0, 41)), dir.path());
   ExpectGoodRun(run);
   EXPECT_EQ(run.analysis.tracking.cameras.at(0).identification.marker_of_track.size(), 6u);
 }
 
 TEST(Pipeline, ObliqueViewClip) {
-  TempDir dir("oblique");
+  testing::TempDir dir("pipeline_oblique");
   ExpectGoodRun(SimulateWriteAnalyze(ClipScenario(testing::ObliqueSpinScenario(0.0, 42)), dir.path()));
 }
 
 TEST(Pipeline, MarkerHiddenForTwentyFrames) {
-  TempDir dir("hidden");
+  testing::TempDir dir("pipeline_hidden");
   Scenario s = ClipScenario(testing::PlanarSpinScenario(0.0, 43));
   s.occlusions.push_back({3, 100, 119});
   const ClipRun run = SimulateWriteAnalyze(s, dir.path());
@@ -128,14 +112,14 @@ TEST(Pipeline, MarkerHiddenForTwentyFrames) {
 }
 
 TEST(Pipeline, TwoGlintsPerFrame) {
-  TempDir dir("glints");
+  testing::TempDir dir("pipeline_glints");
   Scenario s = ClipScenario(testing::PlanarSpinScenario(0.0, 44));
   s.glints_per_frame = 2;
   ExpectGoodRun(SimulateWriteAnalyze(s, dir.path()));
 }
 
 TEST(Pipeline, ImageSequenceWithAMissingFrameIsReported) {
-  TempDir dir("images");
+  testing::TempDir dir("pipeline_images");
   Scenario s = ClipScenario(testing::PlanarSpinScenario(0.0, 45));
   s.video.image_folder = true;
   const ClipRun run = SimulateWriteAnalyze(s, dir.path(), [](const std::filesystem::path& d) {
@@ -150,7 +134,7 @@ TEST(Pipeline, ImageSequenceWithAMissingFrameIsReported) {
 }
 
 TEST(Pipeline, ClipWithoutMarkersIsRefused) {
-  TempDir dir("nomarkers");
+  testing::TempDir dir("pipeline_nomarkers");
   Scenario s = ClipScenario(testing::PlanarSpinScenario(0.0, 46));
   s.video.dot_level = s.video.body_level;  // the dots do not show
   s.frames = 60;
@@ -161,7 +145,7 @@ TEST(Pipeline, ClipWithoutMarkersIsRefused) {
 }
 
 TEST(Pipeline, MissingImageFolderIsBadInput) {
-  TempDir dir("nofolder");
+  testing::TempDir dir("pipeline_nofolder");
   Scenario s = ClipScenario(testing::PlanarSpinScenario(0.0, 47));
   s.video.image_folder = true;
   s.frames = 20;
@@ -172,7 +156,7 @@ TEST(Pipeline, MissingImageFolderIsBadInput) {
 }
 
 TEST(Pipeline, TruncatedVideoIsBadInput) {
-  TempDir dir("truncated");
+  testing::TempDir dir("pipeline_truncated");
   Scenario s = ClipScenario(testing::PlanarSpinScenario(0.0, 48));
   s.frames = 120;
   WriteSimulation(SimulateFlight(s), dir.path(), {});
@@ -183,7 +167,7 @@ TEST(Pipeline, TruncatedVideoIsBadInput) {
 }
 
 TEST(Pipeline, PlaybackRateAsCaptureRateIsWarned) {
-  TempDir dir("rate");
+  testing::TempDir dir("pipeline_rate");
   Scenario s = ClipScenario(testing::PlanarSpinScenario(0.0, 49));
   s.frames = 80;
   WriteSimulation(SimulateFlight(s), dir.path(), {});
