@@ -1,6 +1,7 @@
 #include "commands.hpp"
 
 #include <fmt/format.h>
+#include <fmt/ranges.h>
 #include <unistd.h>
 
 #include <cstdio>
@@ -40,10 +41,16 @@ int RunSimulate(const SimulateOptions& options, const CommonOptions& common) {
   });
   if (!common.quiet) {
     const Eigen::Vector3d& c = sim.mass.cm_body_m;
+    std::string cameras;
+    if (scenario.cameras.size() > 1) {
+      std::vector<std::string> names;
+      for (const ScenarioCamera& c : scenario.cameras) names.push_back(c.name);
+      cameras = fmt::format(" by {} cameras ({})", names.size(), fmt::join(names, ", "));
+    }
     std::cout << fmt::format(
-        "Simulated {} frames at {} frames/s into {}\n  true CM in the body frame: [{:.3f}, "
+        "Simulated {} frames at {} frames/s{} into {}\n  true CM in the body frame: [{:.3f}, "
         "{:.3f}, {:.3f}] mm, mass {:.4f} kg\n  spin {:.3f} rev/s, launch speed {:.3f} m/s\n",
-        sim.frames.size(), scenario.capture_fps, options.out_dir.string(), 1e3 * c.x(),
+        sim.frames.size(), scenario.capture_fps, cameras, options.out_dir.string(), 1e3 * c.x(),
         1e3 * c.y(), 1e3 * c.z(), sim.mass.mass_kg,
         scenario.launch_omega_body_radps.norm() / (2 * M_PI),
         scenario.launch_velocity_world_mps.norm());
