@@ -150,6 +150,25 @@ void CheckTracksAgainstSession(const std::vector<TrackPoint>& tracks,
   }
 }
 
+// A warning for each camera of the session of which the tracks hold no identified point.
+std::vector<std::string> CamerasWithoutSightings(const std::vector<TrackPoint>& tracks,
+                                                 const std::filesystem::path& tracks_file,
+                                                 const Session& session) {
+  std::vector<bool> seen(session.cameras.size(), false);
+  for (const TrackPoint& p : tracks) {
+    if (p.marker) seen[p.camera] = true;
+  }
+  std::vector<std::string> warnings;
+  for (size_t k = 0; k < seen.size(); ++k) {
+    if (seen[k]) continue;
+    warnings.push_back(fmt::format(
+        "{} holds no identified marker of camera '{}' (camera {} of {}): that camera took no "
+        "part in the fit",
+        tracks_file.string(), session.cameras[k].name, k, session.file.string()));
+  }
+  return warnings;
+}
+
 }  // namespace
 
 int RunFit(const FitCommandOptions& options, const CommonOptions& common) {
@@ -159,8 +178,11 @@ int RunFit(const FitCommandOptions& options, const CommonOptions& common) {
   FitOptions fit_options = FitOptionsFor(session, options.choices);
   fit_options.robust_loss_scale_px = options.robust_scale_px;
 
-  const FitResult fit = FitFreeFlight(GroupByFrame(tracks, session.CaptureRates()), session.body,
-                                      session.CameraModels(), fit_options);
+  FitResult fit = FitFreeFlight(GroupByFrame(tracks, session.CaptureRates()), session.body,
+                                session.CameraModels(), fit_options);
+  for (std::string& w : CamerasWithoutSightings(tracks, options.tracks, session)) {
+    fit.warnings.push_back(std::move(w));
+  }
   Provenance provenance = MakeProvenance(session, common);
   provenance.input_files.push_back(options.tracks);
   WriteFitOutputs(fit, Summarise(fit, session.body), provenance, options.out_dir, common);

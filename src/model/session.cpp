@@ -184,7 +184,9 @@ bool SingleFormExpresses(const Session& session) {
 // The list form, in block style (names need no quoting rules of flow maps). A camera's rate
 // is written when it differs from the session's default, its offset when not zero.
 void WriteCameraList(const Session& session, const fs::path& path, std::ostream& out) {
-  if (session.capture_fps > 0) out << "capture_fps: " << fmt::format("{}", session.capture_fps) << "\n";
+  if (session.capture_fps > 0) {
+    out << "capture_fps: " << fmt::format("{}", session.capture_fps) << "\n";
+  }
   out << "cameras:\n";
   for (const SessionCamera& camera : session.cameras) {
     out << "  - name: " << Scalar(camera.name) << "\n";

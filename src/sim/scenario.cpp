@@ -40,7 +40,8 @@ Camera ReadPosedCamera(YamlMap& map, const std::string& key, std::filesystem::pa
 }
 
 // `cameras: [{name, camera, time_offset_s}, ...]`; names are unique and fit for file names.
-std::vector<ScenarioCamera> ReadScenarioCameras(YamlMap& root, const std::filesystem::path& folder) {
+std::vector<ScenarioCamera> ReadScenarioCameras(YamlMap& root,
+                                                const std::filesystem::path& folder) {
   std::vector<YamlMap> items = root.MapList("cameras");
   if (items.empty()) root.Fail("cameras", "a list of at least one camera {name, camera}");
   std::vector<ScenarioCamera> cameras;

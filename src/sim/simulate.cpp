@@ -164,7 +164,8 @@ SceneInstant ProjectScene(const Simulation& sim, const Camera& camera, int camer
   }
   // Glints: small bright spots at random places, new ones every frame (a fixed seed per
   // frame, so that every instant of the exposure shows the same ones).
-  std::mt19937_64 rng(CameraSeed(s.seed * 7919ULL + static_cast<std::uint64_t>(frame), camera_index));
+  std::mt19937_64 rng(
+      CameraSeed(s.seed * 7919ULL + static_cast<std::uint64_t>(frame), camera_index));
   std::uniform_real_distribution<double> x(20.0, camera.intrinsics.width_px - 20.0);
   std::uniform_real_distribution<double> y(20.0, camera.intrinsics.height_px - 20.0);
   std::uniform_real_distribution<double> r(1.0, 2.5);
@@ -207,9 +208,10 @@ nlohmann::json TruthJson(const Simulation& sim) {
   const std::vector<ScenarioCamera> cameras = s.FilmingCameras();
   nlohmann::json cameras_json = nlohmann::json::array();
   for (const ScenarioCamera& c : cameras) {
+    const double from_first_s = c.time_offset_s - cameras.front().time_offset_s;
     cameras_json.push_back({{"name", c.name},
                             {"time_offset_s", c.time_offset_s},
-                            {"time_offset_from_first_s", c.time_offset_s - cameras.front().time_offset_s}});
+                            {"time_offset_from_first_s", from_first_s}});
   }
   j["cameras"] = cameras_json;
   nlohmann::json frames = nlohmann::json::array();
@@ -308,7 +310,8 @@ cv::Mat RenderSimulatedFrame(const Simulation& sim, int frame, int camera_index)
   render.dot_level = s.video.dot_level;
   render.supersampling = s.video.supersampling;
   render.noise_sigma_levels = s.image_sigma_levels;
-  render.noise_seed = CameraSeed(s.seed * 1000003ULL + static_cast<std::uint64_t>(frame), camera_index);
+  render.noise_seed =
+      CameraSeed(s.seed * 1000003ULL + static_cast<std::uint64_t>(frame), camera_index);
   const RigidBodyIntegrator integrator = MakeIntegrator(s, sim.mass);
   const int samples = s.exposure_s > 0 ? s.video.exposure_samples : 1;
   const FrameTruth& f = sim.frames.at(frame);
@@ -317,8 +320,8 @@ cv::Mat RenderSimulatedFrame(const Simulation& sim, int frame, int camera_index)
     // The exposure is centred on the frame's time on the camera's clock.
     const double offset_s = camera.time_offset_s +
                             (samples > 1 ? s.exposure_s * ((j + 0.5) / samples - 0.5) : 0.0);
-    exposure.push_back(
-        ProjectScene(sim, camera.camera, camera_index, integrator.Advance(f.state, offset_s), frame));
+    const RigidState state = integrator.Advance(f.state, offset_s);
+    exposure.push_back(ProjectScene(sim, camera.camera, camera_index, state, frame));
   }
   return RenderFrame(exposure, render);
 }
@@ -343,7 +346,7 @@ void WriteClip(const Simulation& sim, int camera_index, const std::filesystem::p
     }
     return;
   }
-  const Camera& camera = s.FilmingCameras().at(camera_index).camera;
+  const Camera camera = s.FilmingCameras().at(camera_index).camera;
   const cv::Size size(camera.intrinsics.width_px, camera.intrinsics.height_px);
   WritePathAtomically(clip, [&](const std::filesystem::path& tmp) {
     VideoWriter writer(tmp, size, s.video.playback_fps);

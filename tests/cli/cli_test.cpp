@@ -355,7 +355,8 @@ TEST_F(CliTest, FitOfTwoCamerasTracksReadsTheCameraColumn) {
   ASSERT_EQ(r.exit_code, 0) << r.err;
   const json results = json::parse(ReadText(Path("out/results.json")));
   const json truth = json::parse(ReadText(Path("sim/truth.json")));
-  EXPECT_NEAR(results["cm"]["body_m"][0].get<double>(), truth["cm"]["body_m"][0].get<double>(), 1e-3);
+  EXPECT_NEAR(results["cm"]["body_m"][0].get<double>(), truth["cm"]["body_m"][0].get<double>(),
+              1e-3);
   EXPECT_EQ(results["fit"]["observations"].get<int>(), 2 * 100 * 6);  // both cameras' sightings
 
   // A point of a third camera, which the session does not have: bad input naming the line.
@@ -371,6 +372,22 @@ TEST_F(CliTest, FitOfTwoCamerasTracksReadsTheCameraColumn) {
             std::string::npos)
       << bad.err;
   EXPECT_FALSE(fs::exists(Path("bad/results.json")));
+
+  // The first camera's points only, without the column: fitted, with a warning naming the
+  // camera left out.
+  std::string front_only = "frame,time_s,track,marker,x_px,y_px,quality\n";
+  for (size_t i = 1; i < tracks.size(); ++i) {
+    const size_t last_comma = tracks[i].rfind(',');
+    if (tracks[i].substr(last_comma) == ",0") front_only += tracks[i].substr(0, last_comma) + "\n";
+  }
+  Write("sim/front_only.csv", front_only);
+  const RunResult front = Run("fit sim/session.yaml --tracks sim/front_only.csv -o front -q");
+  ASSERT_EQ(front.exit_code, 0) << front.err;
+  EXPECT_NE(front.err.find("holds no identified marker of camera 'side' (camera 1 of "),
+            std::string::npos)
+      << front.err;
+  const json front_results = json::parse(ReadText(Path("front/results.json")));
+  EXPECT_EQ(front_results["fit"]["observations"].get<int>(), 100 * 6);
 }
 
 TEST_F(CliTest, HelpOfTheProgramAndEachCommandSaysWhatItWrites) {
@@ -509,7 +526,8 @@ TEST_F(CliClipTest, TrackAndFitOfTwoCameras) {
   ASSERT_EQ(fit.exit_code, 0) << fit.err;
   const json results = json::parse(ReadText(Path("fit/results.json")));
   const json truth = json::parse(ReadText(Path("sim/truth.json")));
-  EXPECT_NEAR(results["cm"]["body_m"][0].get<double>(), truth["cm"]["body_m"][0].get<double>(), 1e-3);
+  EXPECT_NEAR(results["cm"]["body_m"][0].get<double>(), truth["cm"]["body_m"][0].get<double>(),
+              1e-3);
 }
 
 TEST_F(CliClipTest, HelpOfTrackAndAnalyzeSaysWhatTheyWrite) {

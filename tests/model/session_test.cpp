@@ -443,7 +443,8 @@ TEST_F(SessionListTest, EstimatingOffsetsNeedsASecondCamera) {
             "session.yaml:5: key 'estimate_time_offsets': expected false with a single camera "
             "(the first camera sets the clock: with no second camera there is no offset to "
             "estimate), got 'true'");
-  EXPECT_EQ(ErrorReadingText(ListSessionWith("estimate_time_offsets: true", "estimate_time_offsets: 2")),
+  EXPECT_EQ(ErrorReadingText(
+                ListSessionWith("estimate_time_offsets: true", "estimate_time_offsets: 2")),
             "session.yaml:5: key 'estimate_time_offsets': expected true or false, got '2'");
 }
 

@@ -252,8 +252,8 @@ TEST(Pipeline, TrackingReportsProgressOverEveryCamera) {
   WriteSimulation(SimulateFlight(s), dir.path(), {});
   const Session session = ReadSessionYaml(dir.path() / "session.yaml");
   std::vector<std::pair<int, int>> calls;
-  const TrackingResult tracking =
-      TrackClip(session, TrackingOptions{}, [&](int done, int total) { calls.emplace_back(done, total); });
+  const TrackingResult tracking = TrackClip(
+      session, TrackingOptions{}, [&](int done, int total) { calls.emplace_back(done, total); });
   ASSERT_EQ(calls.size(), 60u);
   EXPECT_EQ(calls[29], std::make_pair(30, 60));
   EXPECT_EQ(calls[30], std::make_pair(31, 60));
@@ -267,8 +267,9 @@ TEST(Pipeline, FitNeedsThePoseOfEveryCameraAndNamesTheOneWithout) {
   Session session;
   session.file = "session.yaml";
   session.gravity.vector_mps2 = Eigen::Vector3d(0, 0, -9.81);
-  session.cameras.push_back({"front", "front.mp4", 1000.0, "front.yaml", testing::FacingCamera(), 0.0});
-  session.cameras.push_back({"side", "side.mp4", 1000.0, "side.yaml", testing::FacingCamera(), 2e-4});
+  const Camera posed = testing::FacingCamera();
+  session.cameras.push_back({"front", "front.mp4", 1000.0, "front.yaml", posed, 0.0});
+  session.cameras.push_back({"side", "side.mp4", 1000.0, "side.yaml", posed, 2e-4});
   session.estimate_time_offsets = true;
   const FitOptions options = FitOptionsFor(session);
   EXPECT_EQ(options.time_offsets_s, (std::vector<double>{0.0, 2e-4}));

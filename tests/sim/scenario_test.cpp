@@ -33,8 +33,8 @@ class ScenarioFileTest : public ::testing::Test {
  protected:
   void SetUp() override {
     const auto* info = ::testing::UnitTest::GetInstance()->current_test_info();
-    folder_ = fs::temp_directory_path() /
-              ("tumbletrace_scenario_" + std::string(info->name()) + "_" + std::to_string(getpid()));
+    folder_ = fs::temp_directory_path() / ("tumbletrace_scenario_" + std::string(info->name()) +
+                                           "_" + std::to_string(getpid()));
     fs::remove_all(folder_);
     fs::create_directories(folder_);
     WriteBodyYaml(testing::HammerBody(), folder_ / "body.yaml");

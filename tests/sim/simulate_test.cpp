@@ -147,7 +147,9 @@ TEST(Simulate, EachCamerasClipShowsItsOwnDotsAtTheirTruePixels) {
         if (m.camera != k) continue;
         ASSERT_TRUE(m.visible);
         double nearest = 1e9;
-        for (const Detection& d : detections) nearest = std::min(nearest, (d.center_px - m.pixel).norm());
+        for (const Detection& d : detections) {
+          nearest = std::min(nearest, (d.center_px - m.pixel).norm());
+        }
         sum_sq += nearest * nearest;
         worst = std::max(worst, nearest);
         ++n;
