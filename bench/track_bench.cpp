@@ -1,4 +1,5 @@
-// Speed and memory of the front end on one clip, measured in one process:
+// Speed and memory of the front end on one clip (the session's first camera's), measured in
+// one process:
 //   decode-only: every frame read through the clip reader;
 //   track: the same frames read, markers detected near the tracker's predictions, tracked.
 // Prints both times, their ratio, and the process's peak resident memory. Usage:
@@ -20,7 +21,7 @@ using Clock = std::chrono::steady_clock;
 
 double DecodeOnly(const tumbletrace::Session& session, int* frames) {
   const auto start = Clock::now();
-  auto source = tumbletrace::OpenClip(session.clip);
+  auto source = tumbletrace::OpenClip(session.cameras.front().clip);
   tumbletrace::Frame frame;
   *frames = 0;
   while (source->Next(&frame)) ++*frames;
@@ -29,13 +30,14 @@ double DecodeOnly(const tumbletrace::Session& session, int* frames) {
 
 double DecodeDetectTrack(const tumbletrace::Session& session, int* tracks) {
   const auto start = Clock::now();
-  auto source = tumbletrace::OpenClip(session.clip);
+  auto source = tumbletrace::OpenClip(session.cameras.front().clip);
   tumbletrace::MarkerDetector detector(tumbletrace::DetectorOptions{});
   tumbletrace::Tracker tracker(tumbletrace::TrackerOptions{});
   tumbletrace::Frame frame;
   while (source->Next(&frame)) {
     const auto regions = tracker.SearchRegions(frame.index, frame.image.size());
-    tracker.Add(frame.index, frame.index / session.capture_fps, detector.Detect(frame.image, regions));
+    const double time_s = frame.index / session.cameras.front().capture_fps;
+    tracker.Add(frame.index, time_s, detector.Detect(frame.image, regions));
   }
   const auto points = tracker.Finish();
   *tracks = points.empty() ? 0 : points.back().track;

@@ -1,6 +1,7 @@
 #include "commands.hpp"
 
 #include <fmt/format.h>
+#include <fmt/ranges.h>
 #include <unistd.h>
 
 #include <cstdio>
@@ -40,10 +41,16 @@ int RunSimulate(const SimulateOptions& options, const CommonOptions& common) {
   });
   if (!common.quiet) {
     const Eigen::Vector3d& c = sim.mass.cm_body_m;
+    std::string cameras;
+    if (scenario.cameras.size() > 1) {
+      std::vector<std::string> names;
+      for (const ScenarioCamera& c : scenario.cameras) names.push_back(c.name);
+      cameras = fmt::format(" by {} cameras ({})", names.size(), fmt::join(names, ", "));
+    }
     std::cout << fmt::format(
-        "Simulated {} frames at {} frames/s into {}\n  true CM in the body frame: [{:.3f}, "
+        "Simulated {} frames at {} frames/s{} into {}\n  true CM in the body frame: [{:.3f}, "
         "{:.3f}, {:.3f}] mm, mass {:.4f} kg\n  spin {:.3f} rev/s, launch speed {:.3f} m/s\n",
-        sim.frames.size(), scenario.capture_fps, options.out_dir.string(), 1e3 * c.x(),
+        sim.frames.size(), scenario.capture_fps, cameras, options.out_dir.string(), 1e3 * c.x(),
         1e3 * c.y(), 1e3 * c.z(), sim.mass.mass_kg,
         scenario.launch_omega_body_radps.norm() / (2 * M_PI),
         scenario.launch_velocity_world_mps.norm());
@@ -81,7 +88,11 @@ Provenance MakeProvenance(const Session& session, const CommonOptions& common) {
   Provenance provenance;
   provenance.tool_version = TUMBLETRACE_VERSION;
   provenance.command = common.command_line;
-  provenance.input_files = {session.file, session.camera_file, session.body_file};
+  provenance.input_files = {session.file};
+  for (const SessionCamera& camera : session.cameras) {
+    provenance.input_files.push_back(camera.camera_file);
+  }
+  provenance.input_files.push_back(session.body_file);
   provenance.capture_fps = session.capture_fps;
   return provenance;
 }
@@ -103,13 +114,59 @@ void EndProgress(const CommonOptions& common) {
   if (ShowProgress(common)) std::cerr << "\n";
 }
 
+// One line per camera, each named when there are several.
 std::string TrackingSummary(const TrackingResult& t) {
-  return fmt::format(
-      "Read {} frames ({}x{} px, {}-bit {}); {} detections; {} tracks, {} identified as markers "
-      "(assignment rms {:.3f} px)\n",
-      t.frames_read, t.clip.size.width, t.clip.size.height, t.clip.bit_depth, t.clip.kind,
-      t.detections, t.identification.marker_of_track.size() + t.identification.unidentified_tracks.size(),
-      t.identification.marker_of_track.size(), t.identification.anchor_rms_px);
+  std::string text;
+  for (const CameraTracking& c : t.cameras) {
+    if (t.cameras.size() > 1) text += c.name + ": ";
+    text += fmt::format(
+        "Read {} frames ({}x{} px, {}-bit {}); {} detections; {} tracks, {} identified as "
+        "markers (assignment rms {:.3f} px)\n",
+        c.frames_read, c.clip.size.width, c.clip.size.height, c.clip.bit_depth, c.clip.kind,
+        c.detections,
+        c.identification.marker_of_track.size() + c.identification.unidentified_tracks.size(),
+        c.identification.marker_of_track.size(), c.identification.anchor_rms_px);
+  }
+  return text;
+}
+
+// Every point's marker is in the body and its camera in the session; InputError naming the
+// tracks file and line otherwise.
+void CheckTracksAgainstSession(const std::vector<TrackPoint>& tracks,
+                               const std::filesystem::path& tracks_file, const Session& session) {
+  for (const TrackPoint& p : tracks) {
+    if (p.marker && session.body.FindMarker(*p.marker) == nullptr) {
+      throw InputError(fmt::format("{}:{}: column 'marker': marker {} is not defined in {}",
+                                   tracks_file.string(), p.source_line, *p.marker,
+                                   session.body_file.string()));
+    }
+    if (p.camera >= static_cast<int>(session.cameras.size())) {
+      throw InputError(fmt::format(
+          "{}:{}: column 'camera': expected a camera index from 0 to {} (the cameras of {}), "
+          "got {}",
+          tracks_file.string(), p.source_line, session.cameras.size() - 1, session.file.string(),
+          p.camera));
+    }
+  }
+}
+
+// A warning for each camera of the session of which the tracks hold no identified point.
+std::vector<std::string> CamerasWithoutSightings(const std::vector<TrackPoint>& tracks,
+                                                 const std::filesystem::path& tracks_file,
+                                                 const Session& session) {
+  std::vector<bool> seen(session.cameras.size(), false);
+  for (const TrackPoint& p : tracks) {
+    if (p.marker) seen[p.camera] = true;
+  }
+  std::vector<std::string> warnings;
+  for (size_t k = 0; k < seen.size(); ++k) {
+    if (seen[k]) continue;
+    warnings.push_back(fmt::format(
+        "{} holds no identified marker of camera '{}' (camera {} of {}): that camera took no "
+        "part in the fit",
+        tracks_file.string(), session.cameras[k].name, k, session.file.string()));
+  }
+  return warnings;
 }
 
 }  // namespace
@@ -117,18 +174,15 @@ std::string TrackingSummary(const TrackingResult& t) {
 int RunFit(const FitCommandOptions& options, const CommonOptions& common) {
   const Session session = ReadSessionYaml(options.session);
   const std::vector<TrackPoint> tracks = ReadTracksCsv(options.tracks);
-  for (const TrackPoint& p : tracks) {
-    if (p.marker && session.body.FindMarker(*p.marker) == nullptr) {
-      throw InputError(fmt::format("{}:{}: column 'marker': marker {} is not defined in {}",
-                                   options.tracks.string(), p.source_line, *p.marker,
-                                   session.body_file.string()));
-    }
-  }
+  CheckTracksAgainstSession(tracks, options.tracks, session);
   FitOptions fit_options = FitOptionsFor(session, options.choices);
   fit_options.robust_loss_scale_px = options.robust_scale_px;
 
-  const FitResult fit = FitFreeFlight(GroupByFrame(tracks, session.capture_fps), session.body,
-                                      session.camera, fit_options);
+  FitResult fit = FitFreeFlight(GroupByFrame(tracks, session.CaptureRates()), session.body,
+                                session.CameraModels(), fit_options);
+  for (std::string& w : CamerasWithoutSightings(tracks, options.tracks, session)) {
+    fit.warnings.push_back(std::move(w));
+  }
   Provenance provenance = MakeProvenance(session, common);
   provenance.input_files.push_back(options.tracks);
   WriteFitOutputs(fit, Summarise(fit, session.body), provenance, options.out_dir, common);

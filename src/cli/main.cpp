@@ -32,8 +32,8 @@ int main(int argc, char** argv) {
   app.require_subcommand(1);
   app.footer(
       "\nStart here:  tumbletrace analyze session.yaml -o out/\n"
-      "A session names the clip, the capture rate, the camera and the body files; see "
-      "README.md and docs/files.md. Try it on the demo: tumbletrace analyze "
+      "A session names the clip, the capture rate, the camera (or a list of cameras) and the "
+      "body files; see README.md and docs/files.md. Try it on the demo: tumbletrace analyze "
       "data-demo/session.yaml -o out/demo");
   app.set_version_flag("--version", TUMBLETRACE_VERSION);
   cli::CommonOptions common;
@@ -54,7 +54,8 @@ int main(int argc, char** argv) {
   CLI::App* track_cmd = app.add_subcommand(
       "track",
       "Find, track and identify the markers in the session's clip (a video file or a folder "
-      "of numbered images); writes tracks.csv.");
+      "of numbered images), or in each camera's clip; writes tracks.csv (with a camera column "
+      "for several cameras).");
   track_cmd->add_option("session", track.session, "session YAML file")->required()->check(CLI::ExistingFile);
   track_cmd->add_option("-o,--out", track.out_dir, "output folder (created when missing)")->required();
   track_cmd->add_flag("-q,--quiet", common.quiet, "print nothing but errors and warnings");
@@ -78,7 +79,8 @@ int main(int argc, char** argv) {
   CLI::App* simulate = app.add_subcommand(
       "simulate",
       "Simulate a throw from a scenario: writes clip.mp4 (H.264), session.yaml, camera.yaml, "
-      "body.yaml, truth.json and tracks.csv (exact marker pixels plus the scenario's noise).");
+      "body.yaml, truth.json and tracks.csv (exact marker pixels plus the scenario's noise); "
+      "with several cameras, <name>.mp4 and <name>_camera.yaml for each.");
   simulate->add_option("scenario", sim.scenario, "scenario YAML file (see docs/scenario.md)")
       ->required()->check(CLI::ExistingFile);
   simulate->add_option("-o,--out", sim.out_dir, "output folder (created when missing)")->required();

@@ -4,6 +4,7 @@
 
 #include <cmath>
 #include <numbers>
+#include <set>
 
 #include "tumbletrace/core/atomic_file.hpp"
 #include "tumbletrace/core/error.hpp"
@@ -94,6 +95,61 @@ MarkerDetectionSettings ReadMarkerSettings(YamlMap& map) {
   return settings;
 }
 
+constexpr const char* kClipExpected =
+    "a video file or a folder of numbered images, relative to this file";
+constexpr const char* kCameraFileExpected = "a camera file, relative to this file";
+constexpr const char* kRateExpected = "a positive capture rate in frames per second";
+
+double ReadCaptureRate(YamlMap& map, const std::string& expected) {
+  const double fps = map.Number("capture_fps", expected);
+  if (!(fps > 0)) map.Fail("capture_fps", kRateExpected);
+  return fps;
+}
+
+// The single-camera form: `clip`, `capture_fps` and `camera` at the top level.
+SessionCamera ReadSingleCamera(YamlMap& map, const fs::path& folder) {
+  SessionCamera camera;
+  camera.name = kSingleCameraName;
+  camera.clip = ResolveFile(map, "clip", folder, kClipExpected);
+  camera.capture_fps =
+      ReadCaptureRate(map, "the camera's capture rate in frames per second");
+  camera.camera_file = ResolveFile(map, "camera", folder, kCameraFileExpected);
+  return camera;
+}
+
+// The list form: `cameras: [{name, clip, camera, capture_fps, time_offset_s}, ...]`, the
+// top-level `capture_fps` (when given) being every camera's default.
+std::vector<SessionCamera> ReadCameraList(YamlMap& map, const fs::path& folder,
+                                          std::optional<double> default_fps) {
+  std::vector<YamlMap> items = map.MapList("cameras");
+  if (items.empty()) map.Fail("cameras", "a list of at least one camera {name, clip, camera}");
+  std::vector<SessionCamera> cameras;
+  std::set<std::string> names;
+  for (YamlMap& item : items) {
+    SessionCamera camera;
+    camera.name = item.String("name", "a name for the camera");
+    if (camera.name.empty()) item.Fail("name", "a non-empty name for the camera");
+    if (!names.insert(camera.name).second) {
+      item.Fail("name", "a name no other camera of this session has");
+    }
+    camera.clip = ResolveFile(item, "clip", folder, kClipExpected);
+    camera.camera_file = ResolveFile(item, "camera", folder, kCameraFileExpected);
+    if (item.Has("capture_fps") || !default_fps) {
+      camera.capture_fps = ReadCaptureRate(
+          item, "the camera's capture rate in frames per second (or capture_fps at the top "
+                "level for every camera)");
+    } else {
+      camera.capture_fps = *default_fps;
+    }
+    const std::string offset_expected =
+        "the camera's clock offset in s (its frame i is at i / capture_fps + time_offset_s)";
+    camera.time_offset_s = item.OptionalNumber("time_offset_s", offset_expected).value_or(0.0);
+    item.Finish();
+    cameras.push_back(std::move(camera));
+  }
+  return cameras;
+}
+
 // How a file named by the session is written into `session_file`. A path as ReadSessionYaml
 // returns it (absolute, or relative to the current folder) that lies inside the session
 // file's folder is written relative to that folder. Any other relative path is taken to be
@@ -115,6 +171,34 @@ std::string Scalar(const std::string& text) {
   YAML::Emitter emitter;
   emitter << text;
   return emitter.c_str();
+}
+
+// Whether the single-camera form says all there is to say about the session's cameras.
+bool SingleFormExpresses(const Session& session) {
+  if (session.cameras.size() != 1) return false;
+  const SessionCamera& camera = session.cameras.front();
+  return camera.name == kSingleCameraName && camera.capture_fps == session.capture_fps &&
+         camera.time_offset_s == 0.0;
+}
+
+// The list form, in block style (names need no quoting rules of flow maps). A camera's rate
+// is written when it differs from the session's default, its offset when not zero.
+void WriteCameraList(const Session& session, const fs::path& path, std::ostream& out) {
+  if (session.capture_fps > 0) {
+    out << "capture_fps: " << fmt::format("{}", session.capture_fps) << "\n";
+  }
+  out << "cameras:\n";
+  for (const SessionCamera& camera : session.cameras) {
+    out << "  - name: " << Scalar(camera.name) << "\n";
+    out << "    clip: " << Scalar(SessionRelative(camera.clip, path)) << "\n";
+    out << "    camera: " << Scalar(SessionRelative(camera.camera_file, path)) << "\n";
+    if (camera.capture_fps != session.capture_fps) {
+      out << "    capture_fps: " << fmt::format("{}", camera.capture_fps) << "\n";
+    }
+    if (camera.time_offset_s != 0.0) {
+      out << "    time_offset_s: " << fmt::format("{}", camera.time_offset_s) << "\n";
+    }
+  }
 }
 
 }  // namespace
@@ -153,18 +237,51 @@ double GravitySpec::Magnitude() const {
   return kStandardGravityMps2;
 }
 
+std::vector<double> Session::CaptureRates() const {
+  std::vector<double> rates;
+  for (const SessionCamera& camera : cameras) rates.push_back(camera.capture_fps);
+  return rates;
+}
+
+std::vector<Camera> Session::CameraModels() const {
+  std::vector<Camera> models;
+  for (const SessionCamera& camera : cameras) models.push_back(camera.camera);
+  return models;
+}
+
+std::vector<double> Session::TimeOffsets() const {
+  std::vector<double> offsets;
+  for (const SessionCamera& camera : cameras) offsets.push_back(camera.time_offset_s);
+  return offsets;
+}
+
 Session ReadSessionYaml(const std::filesystem::path& path) {
   YamlMap map = YamlMap::LoadFile(path);
   const fs::path folder = path.parent_path();
   Session session;
   session.file = path;
-  session.clip = ResolveFile(map, "clip", folder,
-                             "a video file or a folder of numbered images, relative to this file");
-  session.capture_fps = map.Number("capture_fps", "the camera's capture rate in frames per second");
-  if (!(session.capture_fps > 0)) {
-    map.Fail("capture_fps", "a positive capture rate in frames per second");
+  const bool list_form = map.Has("cameras");
+  if (list_form && (map.Has("clip") || map.Has("camera"))) {
+    map.Fail("cameras",
+             "either a cameras list or clip and camera at the top level, not both (this file "
+             "has both)");
   }
-  session.camera_file = ResolveFile(map, "camera", folder, "a camera file, relative to this file");
+  if (list_form) {
+    std::optional<double> default_fps;
+    if (map.Has("capture_fps")) {
+      default_fps = ReadCaptureRate(map, "every camera's capture rate in frames per second");
+    }
+    session.cameras = ReadCameraList(map, folder, default_fps);
+    session.capture_fps = default_fps.value_or(session.cameras.front().capture_fps);
+  } else {
+    if (!map.Has("clip") && !map.Has("camera")) {
+      map.Fail("clip", std::string(kClipExpected) +
+                           ", with camera: a camera file (or a cameras list of {name, clip, "
+                           "camera})");
+    }
+    session.cameras.push_back(ReadSingleCamera(map, folder));
+    session.capture_fps = session.cameras.front().capture_fps;
+  }
   session.body_file = ResolveFile(map, "body", folder, "a body file, relative to this file");
   session.gravity = ReadGravity(map);
   if (map.Has("markers")) {
@@ -182,18 +299,29 @@ Session ReadSessionYaml(const std::filesystem::path& path) {
     }
     frames.Finish();
   }
+  session.estimate_time_offsets = map.OptionalBoolean("estimate_time_offsets").value_or(false);
+  if (session.estimate_time_offsets && session.cameras.size() < 2) {
+    map.Fail("estimate_time_offsets",
+             "false with a single camera (the first camera sets the clock: with no second "
+             "camera there is no offset to estimate)");
+  }
   map.Finish();
   // The named files are read after the session itself is known to be well formed.
-  session.camera = ReadCameraYaml(session.camera_file);
+  for (SessionCamera& camera : session.cameras) camera.camera = ReadCameraYaml(camera.camera_file);
   session.body = ReadBodyYaml(session.body_file);
   return session;
 }
 
 void WriteSessionYaml(const Session& session, const std::filesystem::path& path) {
   WriteFileAtomically(path, [&](std::ostream& out) {
-    out << "clip: " << Scalar(SessionRelative(session.clip, path)) << "\n";
-    out << "capture_fps: " << fmt::format("{}", session.capture_fps) << "\n";
-    out << "camera: " << Scalar(SessionRelative(session.camera_file, path)) << "\n";
+    if (SingleFormExpresses(session)) {
+      const SessionCamera& camera = session.cameras.front();
+      out << "clip: " << Scalar(SessionRelative(camera.clip, path)) << "\n";
+      out << "capture_fps: " << fmt::format("{}", session.capture_fps) << "\n";
+      out << "camera: " << Scalar(SessionRelative(camera.camera_file, path)) << "\n";
+    } else {
+      WriteCameraList(session, path, out);
+    }
     out << "body: " << Scalar(SessionRelative(session.body_file, path)) << "\n";
     const GravitySpec& gravity = session.gravity;
     if (gravity.vector_mps2) {
@@ -221,6 +349,7 @@ void WriteSessionYaml(const Session& session, const std::filesystem::path& path)
       if (session.last_frame) out << "last: " << *session.last_frame;
       out << "}\n";
     }
+    if (session.estimate_time_offsets) out << "estimate_time_offsets: true\n";
   });
 }
 

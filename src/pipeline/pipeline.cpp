@@ -2,67 +2,124 @@
 
 #include <fmt/format.h>
 
+#include <memory>
+
 #include "tumbletrace/core/error.hpp"
 
 namespace tumbletrace {
+namespace {
 
-FitOptions FitOptionsFor(const Session& session) {
-  FitOptions options;
-  const std::optional<Eigen::Vector3d> g = session.gravity.WorldVector();
-  if (!g || !session.camera.camera_from_world) {
-    throw InputError(fmt::format(
-        "{}: the fit needs gravity as a world vector (gravity_mps2: [x, y, z] or gravity: "
-        "{{latitude_deg, elevation_m}}) and a camera with world_to_camera; estimating the "
-        "direction of gravity from the flight is not available yet",
-        session.file.string()));
+DetectorOptions DetectorOptionsFor(const Session& session, const DetectorOptions& defaults) {
+  DetectorOptions options = defaults;
+  options.dark_dots = session.markers.kind == MarkerKind::kDarkDots;
+  if (session.markers.threshold) options.threshold = session.markers.threshold;
+  options.min_area_px = session.markers.min_area_px;
+  options.max_area_px = session.markers.max_area_px;
+  if (session.markers.background_radius_px) {
+    options.background_radius_px = *session.markers.background_radius_px;
   }
-  options.gravity_world_mps2 = *g;
-  options.first_frame = session.first_frame;
-  options.last_frame = session.last_frame;
   return options;
 }
 
-TrackingResult TrackClip(const Session& session, const TrackingOptions& options,
-                         const Progress& progress) {
-  DetectorOptions detector_options = options.detector;
-  detector_options.dark_dots = session.markers.kind == MarkerKind::kDarkDots;
-  if (session.markers.threshold) detector_options.threshold = session.markers.threshold;
-  detector_options.min_area_px = session.markers.min_area_px;
-  detector_options.max_area_px = session.markers.max_area_px;
-  if (session.markers.background_radius_px) {
-    detector_options.background_radius_px = *session.markers.background_radius_px;
-  }
-  MarkerDetector detector(detector_options);
+// Detects, tracks and identifies the markers of one camera's clip; its points carry the
+// camera's index. `progress` is called after each frame with the frames read in this clip.
+CameraTracking TrackCamera(const Session& session, int camera_index, FrameSource* source,
+                           const TrackingOptions& options, std::vector<TrackPoint>* points,
+                           const std::function<void(int)>& progress) {
+  const SessionCamera& camera = session.cameras[camera_index];
+  MarkerDetector detector(DetectorOptionsFor(session, options.detector));
   Tracker tracker(options.tracker);
-
-  std::unique_ptr<FrameSource> source = OpenClip(session.clip, session.first_frame, session.last_frame);
-  TrackingResult result;
-  result.clip = source->info();
-  const int expected = result.clip.frame_count;
+  CameraTracking result;
+  result.name = camera.name;
   Frame frame;
   while (source->Next(&frame)) {
-    const double time_s = frame.index / session.capture_fps;
+    const double time_s = frame.index / camera.capture_fps;
     const std::vector<cv::Rect> regions = tracker.SearchRegions(frame.index, frame.image.size());
     const std::vector<Detection> detections = detector.Detect(frame.image, regions);
     result.detections += static_cast<int>(detections.size());
     tracker.Add(frame.index, time_s, detections);
     ++result.frames_read;
-    if (progress) progress(result.frames_read, expected);
+    if (progress) progress(result.frames_read);
   }
   result.clip = source->info();  // complete now (missing frames, last index)
-  result.warnings = ClipWarnings(result.clip, session.capture_fps);
   if (result.frames_read == 0) {
-    throw DataError(fmt::format("{}: no frames in the requested range", session.clip.string()));
+    throw DataError(fmt::format("{}: no frames in the requested range", camera.clip.string()));
   }
-  result.points = tracker.Finish();
-  if (result.points.empty()) {
+  std::vector<TrackPoint> found = tracker.Finish();
+  if (found.empty()) {
     throw DataError(fmt::format(
         "{}: no marker tracks found in {} frames ({} detections): check `markers` in the "
         "session (bright-dots or dark-dots, threshold, min_area_px, max_area_px)",
-        session.clip.string(), result.frames_read, result.detections));
+        camera.clip.string(), result.frames_read, result.detections));
   }
-  result.identification = IdentifyTracks(&result.points, session.body, session.camera, options.identify);
-  for (const std::string& w : result.identification.warnings) result.warnings.push_back(w);
+  try {
+    result.identification = IdentifyTracks(&found, session.body, camera.camera, options.identify);
+  } catch (const DataError& e) {
+    if (session.cameras.size() == 1) throw;
+    throw DataError(fmt::format("{} ({}): {}", camera.name, camera.clip.string(), e.what()));
+  }
+  for (TrackPoint& p : found) p.camera = camera_index;
+  points->insert(points->end(), found.begin(), found.end());
+  return result;
+}
+
+}  // namespace
+
+FitOptions FitOptionsFor(const Session& session) {
+  FitOptions options;
+  const std::optional<Eigen::Vector3d> g = session.gravity.WorldVector();
+  if (!g) {
+    throw InputError(fmt::format(
+        "{}: the fit needs gravity as a world vector (gravity_mps2: [x, y, z] or gravity: "
+        "{{latitude_deg, elevation_m}}); estimating the direction of gravity from the flight "
+        "is not available yet",
+        session.file.string()));
+  }
+  for (const SessionCamera& camera : session.cameras) {
+    if (!camera.camera.camera_from_world) {
+      throw InputError(fmt::format(
+          "{}: camera '{}' ({}): the fit needs world_to_camera in every camera file; "
+          "estimating the camera's pose from the flight is not available yet",
+          session.file.string(), camera.name, camera.camera_file.string()));
+    }
+  }
+  options.gravity_world_mps2 = *g;
+  options.first_frame = session.first_frame;
+  options.last_frame = session.last_frame;
+  options.time_offsets_s = session.TimeOffsets();
+  options.estimate_time_offsets = session.estimate_time_offsets;
+  return options;
+}
+
+TrackingResult TrackClip(const Session& session, const TrackingOptions& options,
+                         const Progress& progress) {
+  // Every clip is opened first: a bad one is reported before any is read, and the progress
+  // knows the total.
+  std::vector<std::unique_ptr<FrameSource>> sources;
+  int total = 0;
+  for (const SessionCamera& camera : session.cameras) {
+    sources.push_back(OpenClip(camera.clip, session.first_frame, session.last_frame));
+    const int count = sources.back()->info().frame_count;
+    total = (total < 0 || count < 0) ? -1 : total + count;
+  }
+  TrackingResult result;
+  const bool several = session.cameras.size() > 1;
+  int done_before = 0;
+  for (size_t k = 0; k < session.cameras.size(); ++k) {
+    const auto camera_progress = [&](int done) {
+      if (progress) progress(done_before + done, total);
+    };
+    CameraTracking tracking = TrackCamera(session, static_cast<int>(k), sources[k].get(), options,
+                                          &result.points, camera_progress);
+    std::vector<std::string> warnings = ClipWarnings(tracking.clip, session.cameras[k].capture_fps);
+    for (const std::string& w : tracking.identification.warnings) warnings.push_back(w);
+    for (const std::string& w : warnings) {
+      result.warnings.push_back(several ? fmt::format("{}: {}", tracking.name, w) : w);
+    }
+    done_before += tracking.frames_read;
+    sources[k].reset();  // the decoder's memory, before the next clip
+    result.cameras.push_back(std::move(tracking));
+  }
   return result;
 }
 
@@ -70,8 +127,8 @@ Analysis AnalyzeSession(const Session& session, const TrackingOptions& tracking,
                         const FitOptions& fit, const Progress& progress) {
   Analysis analysis;
   analysis.tracking = TrackClip(session, tracking, progress);
-  analysis.fit = FitFreeFlight(GroupByFrame(analysis.tracking.points, session.capture_fps),
-                               session.body, session.camera, fit);
+  analysis.fit = FitFreeFlight(GroupByFrame(analysis.tracking.points, session.CaptureRates()),
+                               session.body, session.CameraModels(), fit);
   for (const std::string& w : analysis.tracking.warnings) analysis.fit.warnings.push_back(w);
   analysis.summary = Summarise(analysis.fit, session.body);
   return analysis;

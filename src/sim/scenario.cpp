@@ -1,6 +1,9 @@
 #include "tumbletrace/sim/scenario.hpp"
 
+#include <algorithm>
+#include <cctype>
 #include <cmath>
+#include <set>
 
 #include "tumbletrace/core/error.hpp"
 #include "tumbletrace/core/yaml_reader.hpp"
@@ -25,7 +28,49 @@ Eigen::Vector3d SpinAxis(YamlMap& spin, const Body& body) {
   return axis.normalized();
 }
 
+// A camera file with a pose, read for `key` of `map`.
+Camera ReadPosedCamera(YamlMap& map, const std::string& key, std::filesystem::path* file,
+                       const std::filesystem::path& folder) {
+  *file = folder / map.String(key, "the name of a camera file");
+  Camera camera = ReadCameraYaml(*file);
+  if (!camera.camera_from_world) {
+    map.Fail(key, "a camera file with world_to_camera (the simulator needs a pose)");
+  }
+  return camera;
+}
+
+// `cameras: [{name, camera, time_offset_s}, ...]`; names are unique and fit for file names.
+std::vector<ScenarioCamera> ReadScenarioCameras(YamlMap& root,
+                                                const std::filesystem::path& folder) {
+  std::vector<YamlMap> items = root.MapList("cameras");
+  if (items.empty()) root.Fail("cameras", "a list of at least one camera {name, camera}");
+  std::vector<ScenarioCamera> cameras;
+  std::set<std::string> names;
+  for (YamlMap& item : items) {
+    ScenarioCamera c;
+    const std::string name_expected =
+        "a name of letters, digits, '-' and '_' (it names the camera's files)";
+    c.name = item.String("name", name_expected);
+    const bool plain = !c.name.empty() && std::all_of(c.name.begin(), c.name.end(), [](char ch) {
+      return std::isalnum(static_cast<unsigned char>(ch)) || ch == '-' || ch == '_';
+    });
+    if (!plain) item.Fail("name", name_expected);
+    if (!names.insert(c.name).second) item.Fail("name", "a name no other camera has");
+    c.camera = ReadPosedCamera(item, "camera", &c.camera_file, folder);
+    const std::string offset_expected = "the camera's true clock offset in s";
+    c.time_offset_s = item.OptionalNumber("time_offset_s", offset_expected).value_or(0.0);
+    item.Finish();
+    cameras.push_back(std::move(c));
+  }
+  return cameras;
+}
+
 }  // namespace
+
+std::vector<ScenarioCamera> Scenario::FilmingCameras() const {
+  if (!cameras.empty()) return cameras;
+  return {ScenarioCamera{"camera", camera_file, camera, 0.0}};
+}
 
 Scenario ReadScenarioYaml(const std::filesystem::path& path) {
   YamlMap root = YamlMap::LoadFile(path);
@@ -33,14 +78,18 @@ Scenario ReadScenarioYaml(const std::filesystem::path& path) {
   s.file = path;
   const std::filesystem::path folder = path.parent_path();
   s.body_file = folder / root.String("body", "the name of a body file");
-  s.camera_file = folder / root.String("camera", "the name of a camera file");
+  const bool several = root.Has("cameras");
+  if (several && root.Has("camera")) {
+    root.Fail("cameras", "either camera or a cameras list, not both (this file has both)");
+  }
   s.body = ReadBodyYaml(s.body_file);
-  s.camera = ReadCameraYaml(s.camera_file);
+  if (several) {
+    s.cameras = ReadScenarioCameras(root, folder);
+  } else {
+    s.camera = ReadPosedCamera(root, "camera", &s.camera_file, folder);
+  }
   if (s.body.parts.empty()) {
     root.Fail("body", "a body file with a parts list (the simulator needs mass and inertia)");
-  }
-  if (!s.camera.camera_from_world) {
-    root.Fail("camera", "a camera file with world_to_camera (the simulator needs a pose)");
   }
   s.capture_fps = root.Number("capture_fps", "a capture rate in frames/s");
   if (!(s.capture_fps > 0)) root.Fail("capture_fps", "a positive rate in frames/s");

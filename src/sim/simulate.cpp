@@ -126,16 +126,24 @@ bool Occluded(const Scenario& s, int marker_id, int frame) {
   return false;
 }
 
-SceneInstant ProjectScene(const Simulation& sim, const RigidState& state, int frame) {
+// Seeds of the per-frame randomness (glints, sensor noise) differ between cameras; the first
+// camera's are those of a single-camera scenario.
+std::uint64_t CameraSeed(std::uint64_t frame_seed, int camera_index) {
+  return frame_seed ^ (static_cast<std::uint64_t>(camera_index) * 0x9E3779B97F4A7C15ULL);
+}
+
+// The scene as `camera` (number `camera_index`) sees it with the body in `state`.
+SceneInstant ProjectScene(const Simulation& sim, const Camera& camera, int camera_index,
+                          const RigidState& state, int frame) {
   const Scenario& s = sim.scenario;
   SceneInstant scene;
   for (const Part& part : s.body.parts) {
     std::vector<cv::Point2f> projected;
     bool in_front = true;
     for (const Eigen::Vector3d& p : PartSamples(part)) {
-      const Eigen::Vector3d x_cam = s.camera.camera_from_world->Apply(MarkerWorld(state, sim.mass, p));
+      const Eigen::Vector3d x_cam = camera.camera_from_world->Apply(MarkerWorld(state, sim.mass, p));
       Eigen::Vector2d px;
-      if (!ProjectCameraPoint(s.camera.intrinsics, x_cam.data(), px.data())) {
+      if (!ProjectCameraPoint(camera.intrinsics, x_cam.data(), px.data())) {
         in_front = false;
         break;
       }
@@ -152,13 +160,14 @@ SceneInstant ProjectScene(const Simulation& sim, const RigidState& state, int fr
     Eigen::Vector2d px;
     RenderedDot dot;
     if (Occluded(s, m.id, frame)) continue;
-    if (ProjectMarker(s.camera, state, sim.mass, m, &px, &dot)) scene.dots.push_back(dot);
+    if (ProjectMarker(camera, state, sim.mass, m, &px, &dot)) scene.dots.push_back(dot);
   }
   // Glints: small bright spots at random places, new ones every frame (a fixed seed per
   // frame, so that every instant of the exposure shows the same ones).
-  std::mt19937_64 rng(s.seed * 7919ULL + static_cast<std::uint64_t>(frame));
-  std::uniform_real_distribution<double> x(20.0, s.camera.intrinsics.width_px - 20.0);
-  std::uniform_real_distribution<double> y(20.0, s.camera.intrinsics.height_px - 20.0);
+  std::mt19937_64 rng(
+      CameraSeed(s.seed * 7919ULL + static_cast<std::uint64_t>(frame), camera_index));
+  std::uniform_real_distribution<double> x(20.0, camera.intrinsics.width_px - 20.0);
+  std::uniform_real_distribution<double> y(20.0, camera.intrinsics.height_px - 20.0);
   std::uniform_real_distribution<double> r(1.0, 2.5);
   for (int g = 0; g < s.glints_per_frame; ++g) {
     RenderedDot glint;
@@ -194,6 +203,17 @@ nlohmann::json TruthJson(const Simulation& sim) {
   j["spin"]["omega_world_radps"] = Vec(omega_world);
   j["spin"]["rate_rev_per_s"] = launch.omega_body_radps.norm() / (2 * M_PI);
   j["tracks_sigma_px"] = s.tracks_sigma_px;
+  // Each camera's true clock offset, and that relative to the first camera's clock (what the
+  // fit estimates).
+  const std::vector<ScenarioCamera> cameras = s.FilmingCameras();
+  nlohmann::json cameras_json = nlohmann::json::array();
+  for (const ScenarioCamera& c : cameras) {
+    const double from_first_s = c.time_offset_s - cameras.front().time_offset_s;
+    cameras_json.push_back({{"name", c.name},
+                            {"time_offset_s", c.time_offset_s},
+                            {"time_offset_from_first_s", from_first_s}});
+  }
+  j["cameras"] = cameras_json;
   nlohmann::json frames = nlohmann::json::array();
   for (const FrameTruth& f : sim.frames) {
     nlohmann::json fj;
@@ -206,8 +226,8 @@ nlohmann::json TruthJson(const Simulation& sim) {
     fj["omega_body_radps"] = Vec(f.state.omega_body_radps);
     nlohmann::json markers = nlohmann::json::array();
     for (const MarkerTruth& m : f.markers) {
-      markers.push_back({{"id", m.id}, {"x_px", m.pixel.x()}, {"y_px", m.pixel.y()},
-                         {"visible", m.visible}});
+      markers.push_back({{"id", m.id}, {"camera", m.camera}, {"x_px", m.pixel.x()},
+                         {"y_px", m.pixel.y()}, {"visible", m.visible}});
     }
     fj["markers"] = markers;
     frames.push_back(fj);
@@ -235,29 +255,37 @@ Simulation SimulateFlight(const Scenario& scenario) {
   std::mt19937_64 rng(scenario.seed);
   std::normal_distribution<double> noise(0.0, 1.0);
   const double dt = 1.0 / scenario.capture_fps;
+  const std::vector<ScenarioCamera> cameras = scenario.FilmingCameras();
   for (int i = 0; i < scenario.frames; ++i) {
     if (i > 0) state = integrator.Advance(state, dt);
     FrameTruth f;
     f.frame = i;
     f.time_s = i * dt;
     f.state = state;
-    for (const Marker& m : scenario.body.markers) {
-      MarkerTruth t;
-      t.id = m.id;
-      RenderedDot dot;
-      t.visible = ProjectMarker(scenario.camera, state, sim.mass, m, &t.pixel, &dot) &&
-                  !Occluded(scenario, m.id, i);
-      f.markers.push_back(t);
-      if (!t.visible) continue;
-      TrackPoint p;
-      p.frame = i;
-      p.time_s = f.time_s;
-      p.track = m.id;
-      p.marker = m.id;
-      p.x_px = t.pixel.x() + scenario.tracks_sigma_px * noise(rng);
-      p.y_px = t.pixel.y() + scenario.tracks_sigma_px * noise(rng);
-      p.quality = 1.0;
-      sim.tracks.push_back(p);
+    for (int k = 0; k < static_cast<int>(cameras.size()); ++k) {
+      // Camera k exposes its frame i at world time i dt + its clock offset.
+      const double offset_s = cameras[k].time_offset_s;
+      const RigidState seen = offset_s == 0.0 ? state : integrator.Advance(state, offset_s);
+      for (const Marker& m : scenario.body.markers) {
+        MarkerTruth t;
+        t.id = m.id;
+        t.camera = k;
+        RenderedDot dot;
+        t.visible = ProjectMarker(cameras[k].camera, seen, sim.mass, m, &t.pixel, &dot) &&
+                    !Occluded(scenario, m.id, i);
+        f.markers.push_back(t);
+        if (!t.visible) continue;
+        TrackPoint p;
+        p.frame = i;
+        p.time_s = f.time_s;  // the camera's own clock: i / capture_fps
+        p.track = m.id;
+        p.marker = m.id;
+        p.x_px = t.pixel.x() + scenario.tracks_sigma_px * noise(rng);
+        p.y_px = t.pixel.y() + scenario.tracks_sigma_px * noise(rng);
+        p.quality = 1.0;
+        p.camera = k;
+        sim.tracks.push_back(p);
+      }
     }
     sim.frames.push_back(std::move(f));
   }
@@ -271,71 +299,103 @@ RigidState StateAt(const Simulation& sim, double t_s) {
   return MakeIntegrator(sim.scenario, sim.mass).Advance(sim.frames[k].state, t_s - k / fps);
 }
 
-cv::Mat RenderSimulatedFrame(const Simulation& sim, int frame) {
+cv::Mat RenderSimulatedFrame(const Simulation& sim, int frame, int camera_index) {
   const Scenario& s = sim.scenario;
+  const ScenarioCamera camera = s.FilmingCameras().at(camera_index);
   RenderSettings render;
-  render.width_px = s.camera.intrinsics.width_px;
-  render.height_px = s.camera.intrinsics.height_px;
+  render.width_px = camera.camera.intrinsics.width_px;
+  render.height_px = camera.camera.intrinsics.height_px;
   render.background_level = s.video.background_level;
   render.body_level = s.video.body_level;
   render.dot_level = s.video.dot_level;
   render.supersampling = s.video.supersampling;
   render.noise_sigma_levels = s.image_sigma_levels;
-  render.noise_seed = s.seed * 1000003ULL + static_cast<std::uint64_t>(frame);
+  render.noise_seed =
+      CameraSeed(s.seed * 1000003ULL + static_cast<std::uint64_t>(frame), camera_index);
   const RigidBodyIntegrator integrator = MakeIntegrator(s, sim.mass);
   const int samples = s.exposure_s > 0 ? s.video.exposure_samples : 1;
   const FrameTruth& f = sim.frames.at(frame);
   std::vector<SceneInstant> exposure;
   for (int j = 0; j < samples; ++j) {
-    // The exposure is centred on the frame time.
-    const double offset_s = samples > 1 ? s.exposure_s * ((j + 0.5) / samples - 0.5) : 0.0;
-    exposure.push_back(ProjectScene(sim, integrator.Advance(f.state, offset_s), frame));
+    // The exposure is centred on the frame's time on the camera's clock.
+    const double offset_s = camera.time_offset_s +
+                            (samples > 1 ? s.exposure_s * ((j + 0.5) / samples - 0.5) : 0.0);
+    const RigidState state = integrator.Advance(f.state, offset_s);
+    exposure.push_back(ProjectScene(sim, camera.camera, camera_index, state, frame));
   }
   return RenderFrame(exposure, render);
 }
+
+namespace {
+
+// Renders every frame of camera `camera_index` into `clip`: an H.264 file, or a folder of
+// lossless frames numbered by frame (frame_000123.png). `progress` gets the frames done.
+void WriteClip(const Simulation& sim, int camera_index, const std::filesystem::path& clip,
+               const std::function<void(int done)>& progress) {
+  const Scenario& s = sim.scenario;
+  if (s.video.image_folder) {
+    std::filesystem::create_directories(clip);
+    for (const FrameTruth& f : sim.frames) {
+      const std::filesystem::path path = clip / fmt::format("frame_{:06d}.png", f.frame);
+      WritePathAtomically(path, [&](const std::filesystem::path& tmp) {
+        if (!cv::imwrite(tmp.string(), RenderSimulatedFrame(sim, f.frame, camera_index))) {
+          throw InputError(path.string() + ": could not be written");
+        }
+      });
+      if (progress) progress(f.frame + 1);
+    }
+    return;
+  }
+  const Camera camera = s.FilmingCameras().at(camera_index).camera;
+  const cv::Size size(camera.intrinsics.width_px, camera.intrinsics.height_px);
+  WritePathAtomically(clip, [&](const std::filesystem::path& tmp) {
+    VideoWriter writer(tmp, size, s.video.playback_fps);
+    for (const FrameTruth& f : sim.frames) {
+      writer.Write(RenderSimulatedFrame(sim, f.frame, camera_index));
+      if (progress) progress(f.frame + 1);
+    }
+    writer.Close();
+  });
+}
+
+}  // namespace
 
 void WriteSimulation(const Simulation& sim, const std::filesystem::path& dir,
                      const std::function<void(int done, int total)>& progress) {
   const Scenario& s = sim.scenario;
   std::filesystem::create_directories(dir);
-  WriteCameraYaml(s.camera, dir / "camera.yaml");
   WriteBodyYaml(s.body, dir / "body.yaml");
+  // One camera: clip.mp4 (or frames/) and camera.yaml; several: named after each camera.
+  const std::vector<ScenarioCamera> cameras = s.FilmingCameras();
+  const bool several = s.SeveralCameras();
   Session session;
-  session.clip = s.video.image_folder ? dir / "frames" : dir / "clip.mp4";
   session.capture_fps = s.capture_fps;
-  session.camera_file = dir / "camera.yaml";
   session.body_file = dir / "body.yaml";
   session.gravity.vector_mps2 = s.gravity_world_mps2;
+  for (const ScenarioCamera& c : cameras) {
+    SessionCamera camera;
+    camera.name = several ? c.name : kSingleCameraName;
+    camera.clip = dir / (several ? (s.video.image_folder ? c.name : c.name + ".mp4")
+                                 : (s.video.image_folder ? "frames" : "clip.mp4"));
+    camera.capture_fps = s.capture_fps;
+    camera.camera_file = dir / (several ? c.name + "_camera.yaml" : "camera.yaml");
+    // The clock offsets are left out: they are what the fit should find (truth.json).
+    WriteCameraYaml(c.camera, camera.camera_file);
+    session.cameras.push_back(std::move(camera));
+  }
   WriteSessionYaml(session, dir / "session.yaml");
   WriteTracksCsv(sim.tracks, dir / "tracks.csv");
   WriteFileAtomically(dir / "truth.json",
                       [&](std::ostream& out) { out << TruthJson(sim).dump(2) << "\n"; });
   if (!s.video.write) return;
 
-  const cv::Size size(s.camera.intrinsics.width_px, s.camera.intrinsics.height_px);
-  const int total = static_cast<int>(sim.frames.size());
-  if (s.video.image_folder) {
-    // Lossless frames, numbered by frame: frames/frame_000123.png.
-    std::filesystem::create_directories(dir / "frames");
-    for (const FrameTruth& f : sim.frames) {
-      const std::filesystem::path path = dir / "frames" / fmt::format("frame_{:06d}.png", f.frame);
-      WritePathAtomically(path, [&](const std::filesystem::path& tmp) {
-        if (!cv::imwrite(tmp.string(), RenderSimulatedFrame(sim, f.frame))) {
-          throw InputError(path.string() + ": could not be written");
-        }
-      });
-      if (progress) progress(f.frame + 1, total);
-    }
-    return;
+  const int frames = static_cast<int>(sim.frames.size());
+  const int total = frames * static_cast<int>(cameras.size());
+  for (int k = 0; k < static_cast<int>(cameras.size()); ++k) {
+    WriteClip(sim, k, session.cameras[k].clip, [&](int done) {
+      if (progress) progress(k * frames + done, total);
+    });
   }
-  WritePathAtomically(dir / "clip.mp4", [&](const std::filesystem::path& tmp) {
-    VideoWriter writer(tmp, size, s.video.playback_fps);
-    for (const FrameTruth& f : sim.frames) {
-      writer.Write(RenderSimulatedFrame(sim, f.frame));
-      if (progress) progress(f.frame + 1, total);
-    }
-    writer.Close();
-  });
 }
 
 }  // namespace tumbletrace

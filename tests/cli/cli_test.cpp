@@ -60,6 +60,32 @@ world_to_camera:
   translation_m: [0, 0, 3.0]
 )";
 
+// Two invented cameras with small images (640 x 480) for the two-camera cases. The first:
+// the central window of the facing camera.
+std::string FrontSmallCameraYaml() {
+  std::string camera = kCameraYaml;
+  for (const auto& [from, to] : {std::pair<std::string, std::string>{"[1024, 768]", "[640, 480]"},
+                                 {"cx: 511.5", "cx: 319.5"},
+                                 {"cy: 383.5", "cy: 239.5"}}) {
+    camera.replace(camera.find(from), from.size(), to);
+  }
+  return camera;
+}
+
+// The second: a view from the other side and from above, looking at the world origin from
+// (1.6, -2.4, 1.5) m, with a distortion of its own.
+constexpr const char* kSideSmallCameraYaml = R"(image_size: [640, 480]
+fx: 1400.0
+fy: 1400.0
+cx: 319.5
+cy: 239.5
+distortion: [-0.10, 0.03, -0.0002, 0.0003, 0.004]
+world_to_camera:
+  rotation: [[0.8320502943, 0.5547001962, 0], [0.2559246305, -0.3838869457, -0.8872053857],
+             [-0.4921330015, 0.7381995023, -0.4613746889]]
+  translation_m: [0, 0, 3.2511536414]
+)";
+
 // An invented throw: 5 rev/s about body z (turned to world -y), fixed seed.
 std::string ScenarioYaml(int frames, bool video, const std::string& camera = "camera.yaml") {
   std::ostringstream out;
@@ -76,6 +102,19 @@ std::string ScenarioYaml(int frames, bool video, const std::string& camera = "ca
       << "noise: {tracks_sigma_px: 0.2, seed: 7}\n"
       << "video: {write: " << (video ? "true" : "false") << ", supersampling: 2}\n";
   return out.str();
+}
+
+// The same throw filmed by the two small cameras, "front" and "side", on one clock;
+// `video` as png frames.
+std::string TwoCameraScenarioYaml(int frames, bool video) {
+  std::string scenario = ScenarioYaml(frames, video);
+  scenario.replace(scenario.find("camera: camera.yaml\n"), 20,
+                   "cameras:\n  - {name: front, camera: front.yaml}\n"
+                   "  - {name: side, camera: side.yaml}\n");
+  if (video) {
+    scenario.replace(scenario.find("video: {write: true"), 19, "video: {write: true, format: png");
+  }
+  return scenario;
 }
 
 struct RunResult {
@@ -296,6 +335,61 @@ TEST_F(CliTest, TracksOfOnlyTwoFramesDoNotSupportAFit) {
 
 // ---- help and quiet ---------------------------------------------------------------------
 
+// ---- several cameras ---------------------------------------------------------------------
+
+TEST_F(CliTest, FitOfTwoCamerasTracksReadsTheCameraColumn) {
+  Write("front.yaml", FrontSmallCameraYaml());
+  Write("side.yaml", kSideSmallCameraYaml);
+  Write("scenario.yaml", TwoCameraScenarioYaml(100, false));
+  const RunResult sim = Run("simulate scenario.yaml -o sim --no-video");
+  ASSERT_EQ(sim.exit_code, 0) << sim.err;
+  for (const char* name : {"front_camera.yaml", "side_camera.yaml", "session.yaml"}) {
+    EXPECT_TRUE(fs::is_regular_file(Path("sim") / name)) << name;
+  }
+  const std::vector<std::string> tracks = Lines(ReadText(Path("sim/tracks.csv")));
+  ASSERT_GT(tracks.size(), 1u);
+  EXPECT_EQ(tracks[0], "frame,time_s,track,marker,x_px,y_px,quality,camera");
+  EXPECT_EQ(tracks.back().substr(tracks.back().rfind(',')), ",1");
+
+  const RunResult r = Run("fit sim/session.yaml --tracks sim/tracks.csv -o out");
+  ASSERT_EQ(r.exit_code, 0) << r.err;
+  const json results = json::parse(ReadText(Path("out/results.json")));
+  const json truth = json::parse(ReadText(Path("sim/truth.json")));
+  EXPECT_NEAR(results["cm"]["body_m"][0].get<double>(), truth["cm"]["body_m"][0].get<double>(),
+              1e-3);
+  EXPECT_EQ(results["fit"]["observations"].get<int>(), 2 * 100 * 6);  // both cameras' sightings
+
+  // A point of a third camera, which the session does not have: bad input naming the line.
+  std::vector<std::string> lines = tracks;
+  lines[5].replace(lines[5].rfind(','), std::string::npos, ",2");
+  std::string text;
+  for (const std::string& line : lines) text += line + "\n";
+  Write("sim/third_camera.csv", text);
+  const RunResult bad = Run("fit sim/session.yaml --tracks sim/third_camera.csv -o bad");
+  EXPECT_EQ(bad.exit_code, 2) << bad.err;
+  EXPECT_NE(bad.err.find("third_camera.csv:6: column 'camera': expected a camera index from 0 "
+                         "to 1"),
+            std::string::npos)
+      << bad.err;
+  EXPECT_FALSE(fs::exists(Path("bad/results.json")));
+
+  // The first camera's points only, without the column: fitted, with a warning naming the
+  // camera left out.
+  std::string front_only = "frame,time_s,track,marker,x_px,y_px,quality\n";
+  for (size_t i = 1; i < tracks.size(); ++i) {
+    const size_t last_comma = tracks[i].rfind(',');
+    if (tracks[i].substr(last_comma) == ",0") front_only += tracks[i].substr(0, last_comma) + "\n";
+  }
+  Write("sim/front_only.csv", front_only);
+  const RunResult front = Run("fit sim/session.yaml --tracks sim/front_only.csv -o front -q");
+  ASSERT_EQ(front.exit_code, 0) << front.err;
+  EXPECT_NE(front.err.find("holds no identified marker of camera 'side' (camera 1 of "),
+            std::string::npos)
+      << front.err;
+  const json front_results = json::parse(ReadText(Path("front/results.json")));
+  EXPECT_EQ(front_results["fit"]["observations"].get<int>(), 100 * 6);
+}
+
 TEST_F(CliTest, HelpOfTheProgramAndEachCommandSaysWhatItWrites) {
   struct Case {
     std::string args;
@@ -401,6 +495,39 @@ TEST_F(CliClipTest, ClipWithoutMarkersDoesNotSupportAFit) {
   EXPECT_EQ(r.exit_code, 3) << r.err;
   EXPECT_NE(r.err.find("no marker tracks"), std::string::npos) << r.err;
   EXPECT_FALSE(fs::exists(Path("out/results.json")));
+}
+
+// `track` over two cameras' clips, then `fit` of what it wrote.
+TEST_F(CliClipTest, TrackAndFitOfTwoCameras) {
+  Write("front.yaml", FrontSmallCameraYaml());
+  Write("side.yaml", kSideSmallCameraYaml);
+  Write("scenario.yaml", TwoCameraScenarioYaml(60, true));
+  const RunResult sim = Run("simulate scenario.yaml -o sim");
+  ASSERT_EQ(sim.exit_code, 0) << sim.err;
+  EXPECT_TRUE(fs::is_regular_file(Path("sim/side/frame_000059.png")));
+
+  const RunResult track = Run("track sim/session.yaml -o out");
+  ASSERT_EQ(track.exit_code, 0) << track.err;
+  EXPECT_NE(track.out.find("front: Read 60 frames (640x480 px"), std::string::npos) << track.out;
+  EXPECT_NE(track.out.find("side: Read 60 frames (640x480 px"), std::string::npos) << track.out;
+  const std::vector<std::string> lines = Lines(ReadText(Path("out/tracks.csv")));
+  ASSERT_GT(lines.size(), 1u);
+  EXPECT_EQ(lines[0], "frame,time_s,track,marker,x_px,y_px,quality,camera");
+  int of_camera[2] = {0, 0};
+  for (size_t i = 1; i < lines.size(); ++i) {
+    const std::string camera = lines[i].substr(lines[i].rfind(',') + 1);
+    ASSERT_TRUE(camera == "0" || camera == "1") << lines[i];
+    ++of_camera[camera == "1"];
+  }
+  EXPECT_GT(of_camera[0], 60 * 6 * 9 / 10);
+  EXPECT_GT(of_camera[1], 60 * 6 * 9 / 10);
+
+  const RunResult fit = Run("fit sim/session.yaml --tracks out/tracks.csv -o fit");
+  ASSERT_EQ(fit.exit_code, 0) << fit.err;
+  const json results = json::parse(ReadText(Path("fit/results.json")));
+  const json truth = json::parse(ReadText(Path("sim/truth.json")));
+  EXPECT_NEAR(results["cm"]["body_m"][0].get<double>(), truth["cm"]["body_m"][0].get<double>(),
+              1e-3);
 }
 
 TEST_F(CliClipTest, HelpOfTrackAndAnalyzeSaysWhatTheyWrite) {

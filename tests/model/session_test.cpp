@@ -93,7 +93,12 @@ class SessionFileTest : public ::testing::Test {
   }
   // The message of reading a session with `extra` lines, with the folder taken off the path.
   std::string ErrorReading(const std::string& extra) const {
-    const fs::path path = WriteSession(extra);
+    return ErrorReadingText(
+        "clip: clip.mp4\ncapture_fps: 1000\ncamera: cal/camera.yaml\nbody: body.yaml\n" + extra);
+  }
+  // The same for a session file of the given text.
+  std::string ErrorReadingText(const std::string& text) const {
+    const fs::path path = WriteText("session.yaml", text);
     std::string message = InputErrorOf([&] { ReadSessionYaml(path); });
     const std::string prefix = (folder_ / "").string();
     if (message.rfind(prefix, 0) == 0) message.erase(0, prefix.size());
@@ -112,12 +117,17 @@ class SessionFileTest : public ::testing::Test {
 TEST_F(SessionFileTest, ResolvesFilesBesideTheSession) {
   const Session session = ReadSessionYaml(WriteSession(""));
   EXPECT_EQ(session.file, folder_ / "session.yaml");
-  EXPECT_EQ(session.clip, folder_ / "clip.mp4");
-  EXPECT_EQ(session.camera_file, folder_ / "cal" / "camera.yaml");
+  ASSERT_EQ(session.cameras.size(), 1u);
+  const SessionCamera& camera = session.cameras[0];
+  EXPECT_EQ(camera.name, "camera");
+  EXPECT_EQ(camera.clip, folder_ / "clip.mp4");
+  EXPECT_EQ(camera.camera_file, folder_ / "cal" / "camera.yaml");
   EXPECT_EQ(session.body_file, folder_ / "body.yaml");
   EXPECT_EQ(session.capture_fps, 1000.0);
-  EXPECT_DOUBLE_EQ(session.FrameTime(120), 0.12);
-  EXPECT_EQ(session.camera.intrinsics.fx_px, 1400.0);
+  EXPECT_EQ(camera.capture_fps, 1000.0);
+  EXPECT_EQ(camera.time_offset_s, 0.0);
+  EXPECT_FALSE(session.estimate_time_offsets);
+  EXPECT_EQ(camera.camera.intrinsics.fx_px, 1400.0);
   EXPECT_EQ(session.body.markers.size(), 2u);
   // Neither gravity key: standard gravity along world -z.
   EXPECT_EQ(session.gravity.WorldVector(), Eigen::Vector3d(0, 0, -9.80665));
@@ -139,14 +149,14 @@ TEST_F(SessionFileTest, ReadsARelativeSessionPath) {
   WriteSession("");
   const WorkingFolder working_folder(folder_.parent_path());
   const Session session = ReadSessionYaml(folder_.filename() / "session.yaml");
-  EXPECT_EQ(session.clip, folder_.filename() / "clip.mp4");
+  EXPECT_EQ(session.cameras.at(0).clip, folder_.filename() / "clip.mp4");
   EXPECT_EQ(session.body_file, folder_.filename() / "body.yaml");
   // Written back beside it, the names are again relative to the session file.
   WriteSessionYaml(session, folder_.filename() / "again.yaml");
   EXPECT_EQ(Contents(folder_ / "again.yaml").rfind("clip: clip.mp4\n", 0), 0u);
   const Session again = ReadSessionYaml(folder_.filename() / "again.yaml");
-  EXPECT_EQ(again.clip, session.clip);
-  EXPECT_EQ(again.camera_file, session.camera_file);
+  EXPECT_EQ(again.cameras.at(0).clip, session.cameras.at(0).clip);
+  EXPECT_EQ(again.cameras.at(0).camera_file, session.cameras.at(0).camera_file);
 }
 
 TEST_F(SessionFileTest, ReadsEveryOptionalSetting) {
@@ -233,8 +243,9 @@ TEST_F(SessionFileTest, WriteThenReadKeepsRelativeNames) {
   EXPECT_NE(text.find("clip: clip.mp4\n"), std::string::npos) << text;
   EXPECT_NE(text.find("camera: cal/camera.yaml\n"), std::string::npos) << text;
   const Session back = ReadSessionYaml(copy);
-  EXPECT_EQ(back.clip, session.clip);
-  EXPECT_EQ(back.camera_file, session.camera_file);
+  ASSERT_EQ(back.cameras.size(), 1u);
+  EXPECT_EQ(back.cameras[0].clip, session.cameras[0].clip);
+  EXPECT_EQ(back.cameras[0].camera_file, session.cameras[0].camera_file);
   EXPECT_EQ(back.body_file, session.body_file);
   EXPECT_EQ(back.capture_fps, session.capture_fps);
   EXPECT_EQ(back.gravity.latitude_deg, 47.5);
@@ -248,9 +259,8 @@ TEST_F(SessionFileTest, WriteThenReadKeepsRelativeNames) {
 TEST_F(SessionFileTest, WriteKeepsNamesGivenRelativeToTheSession) {
   // As a writer that puts the files beside the session gives them: bare names.
   Session session;
-  session.clip = "clip.mp4";
   session.capture_fps = 2000.0;
-  session.camera_file = "camera.yaml";
+  session.cameras.push_back({"camera", "clip.mp4", 2000.0, "camera.yaml", Camera{}, 0.0});
   session.body_file = "body.yaml";
   session.gravity.magnitude_mps2 = 9.81;
   fs::create_directories(folder_ / "out");
@@ -267,9 +277,181 @@ TEST_F(SessionFileTest, WriteKeepsAbsoluteNamesOutsideTheFolder) {
   fs::create_directories(folder_ / "elsewhere");
   WriteSessionYaml(session, folder_ / "elsewhere" / "session.yaml");
   const Session back = ReadSessionYaml(folder_ / "elsewhere" / "session.yaml");
-  EXPECT_EQ(back.clip, session.clip);
-  EXPECT_EQ(back.camera_file, session.camera_file);
+  EXPECT_EQ(back.cameras.at(0).clip, session.cameras.at(0).clip);
+  EXPECT_EQ(back.cameras.at(0).camera_file, session.cameras.at(0).camera_file);
   EXPECT_EQ(back.gravity.WorldVector(), Eigen::Vector3d(0, 0, -9.80665));
+}
+
+// ---- several cameras: the list form --------------------------------------------------------
+
+constexpr const char* kListSession =
+    "capture_fps: 2000\n"
+    "cameras:\n"
+    "  - {name: side, clip: side.mp4, camera: cal/camera.yaml}\n"
+    "  - {name: top, clip: top/, camera: cal/top.yaml, capture_fps: 1000, time_offset_s: 0.0002}\n"
+    "estimate_time_offsets: true\n"
+    "body: body.yaml\n";
+
+class SessionListTest : public SessionFileTest {
+ protected:
+  void SetUp() override {
+    SessionFileTest::SetUp();
+    WriteText("cal/top.yaml",
+              "image_size: [640, 480]\nfx: 900\nfy: 900\ncx: 320\ncy: 240\n"
+              "distortion: [-0.1, 0, 0, 0, 0]\n");
+  }
+  // The list-form session with `from` replaced by `to` in its text.
+  std::string ListSessionWith(const std::string& from, const std::string& to) const {
+    std::string text = kListSession;
+    const size_t at = text.find(from);
+    EXPECT_NE(at, std::string::npos) << from;
+    if (at != std::string::npos) text.replace(at, from.size(), to);
+    return text;
+  }
+};
+
+TEST_F(SessionListTest, ReadsEveryCameraWithItsFileRateAndOffset) {
+  const Session session = ReadSessionYaml(WriteText("session.yaml", kListSession));
+  ASSERT_EQ(session.cameras.size(), 2u);
+  const SessionCamera& side = session.cameras[0];
+  const SessionCamera& top = session.cameras[1];
+  EXPECT_EQ(side.name, "side");
+  EXPECT_EQ(side.clip, folder_ / "side.mp4");
+  EXPECT_EQ(side.camera_file, folder_ / "cal" / "camera.yaml");
+  EXPECT_EQ(side.capture_fps, 2000.0);  // the session's default
+  EXPECT_EQ(side.time_offset_s, 0.0);
+  EXPECT_EQ(side.camera.intrinsics.fx_px, 1400.0);
+  EXPECT_EQ(top.name, "top");
+  EXPECT_EQ(top.clip, folder_ / "top/");
+  EXPECT_EQ(top.camera_file, folder_ / "cal" / "top.yaml");
+  EXPECT_EQ(top.capture_fps, 1000.0);
+  EXPECT_EQ(top.time_offset_s, 0.0002);
+  EXPECT_EQ(top.camera.intrinsics.fx_px, 900.0);
+  EXPECT_EQ(session.capture_fps, 2000.0);
+  EXPECT_TRUE(session.estimate_time_offsets);
+  EXPECT_EQ(session.CaptureRates(), (std::vector<double>{2000.0, 1000.0}));
+  EXPECT_EQ(session.TimeOffsets(), (std::vector<double>{0.0, 0.0002}));
+  ASSERT_EQ(session.CameraModels().size(), 2u);
+  EXPECT_EQ(session.CameraModels()[1].intrinsics.width_px, 640);
+}
+
+TEST_F(SessionListTest, EveryCameraMayGiveItsOwnRateWithoutADefault) {
+  const Session session = ReadSessionYaml(WriteText(
+      "session.yaml",
+      "cameras:\n  - {name: a, clip: a.mp4, camera: cal/camera.yaml, capture_fps: 500}\n"
+      "  - {name: b, clip: b.mp4, camera: cal/top.yaml, capture_fps: 750}\nbody: body.yaml\n"));
+  EXPECT_EQ(session.CaptureRates(), (std::vector<double>{500.0, 750.0}));
+  EXPECT_EQ(session.capture_fps, 500.0);  // the first camera's, as the default
+  EXPECT_FALSE(session.estimate_time_offsets);
+}
+
+TEST_F(SessionListTest, WriteThenReadGivesTheSameCameras) {
+  const Session session = ReadSessionYaml(WriteText("session.yaml", kListSession));
+  WriteSessionYaml(session, folder_ / "copy.yaml");
+  const std::string text = Contents(folder_ / "copy.yaml");
+  EXPECT_EQ(text.rfind("capture_fps: 2000\ncameras:\n  - name: side\n    clip: side.mp4\n"
+                       "    camera: cal/camera.yaml\n  - name: top\n    clip: top/\n"
+                       "    camera: cal/top.yaml\n    capture_fps: 1000\n"
+                       "    time_offset_s: 0.0002\nbody: body.yaml\n",
+                       0),
+            0u)
+      << text;
+  EXPECT_NE(text.find("estimate_time_offsets: true\n"), std::string::npos) << text;
+  const Session back = ReadSessionYaml(folder_ / "copy.yaml");
+  ASSERT_EQ(back.cameras.size(), 2u);
+  for (size_t k = 0; k < 2; ++k) {
+    EXPECT_EQ(back.cameras[k].name, session.cameras[k].name);
+    EXPECT_EQ(back.cameras[k].clip, session.cameras[k].clip);
+    EXPECT_EQ(back.cameras[k].camera_file, session.cameras[k].camera_file);
+    EXPECT_EQ(back.cameras[k].capture_fps, session.cameras[k].capture_fps);
+    EXPECT_EQ(back.cameras[k].time_offset_s, session.cameras[k].time_offset_s);
+  }
+  EXPECT_EQ(back.capture_fps, session.capture_fps);
+  EXPECT_TRUE(back.estimate_time_offsets);
+}
+
+TEST_F(SessionListTest, OneCameraTheSingleFormCannotSayIsWrittenAsAList) {
+  Session session = ReadSessionYaml(WriteSession(""));
+  session.cameras[0].time_offset_s = -0.0001;
+  WriteSessionYaml(session, folder_ / "offset.yaml");
+  const Session offset = ReadSessionYaml(folder_ / "offset.yaml");
+  ASSERT_EQ(offset.cameras.size(), 1u);
+  EXPECT_EQ(offset.cameras[0].time_offset_s, -0.0001);
+  EXPECT_EQ(offset.cameras[0].name, "camera");
+
+  session.cameras[0].time_offset_s = 0.0;
+  session.cameras[0].name = "high";
+  WriteSessionYaml(session, folder_ / "named.yaml");
+  EXPECT_NE(Contents(folder_ / "named.yaml").find("cameras:\n  - name: high\n"), std::string::npos);
+  EXPECT_EQ(ReadSessionYaml(folder_ / "named.yaml").cameras.at(0).name, "high");
+
+  session.cameras[0].name = "camera";  // as read: the single form again
+  WriteSessionYaml(session, folder_ / "single.yaml");
+  EXPECT_EQ(Contents(folder_ / "single.yaml").rfind("clip: clip.mp4\n", 0), 0u);
+}
+
+TEST_F(SessionListTest, BothFormsOrNeitherAreRefused) {
+  const std::string both = ErrorReadingText(std::string("clip: clip.mp4\n") + kListSession);
+  EXPECT_EQ(both.rfind("session.yaml:4: key 'cameras': expected either a cameras list or clip "
+                       "and camera at the top level, not both (this file has both), got ",
+                       0),
+            0u)
+      << both;
+  EXPECT_EQ(ErrorReadingText("capture_fps: 1000\nbody: body.yaml\n"),
+            "session.yaml:1: key 'clip' is missing; expected a video file or a folder of numbered "
+            "images, relative to this file, with camera: a camera file (or a cameras list of "
+            "{name, clip, camera})");
+}
+
+TEST_F(SessionListTest, BadCamerasAreNamedByTheirPlaceInTheList) {
+  struct Case {
+    std::string from, to;  // the change to the list-form session
+    std::string message;
+  };
+  const std::vector<Case> cases = {
+      {"name: top", "name: side",
+       "session.yaml:4: key 'cameras[1].name': expected a name no other camera of this session "
+       "has, got 'side'"},
+      {"name: top", "name: ''",
+       "session.yaml:4: key 'cameras[1].name': expected a non-empty name for the camera, got ''"},
+      {"camera: cal/camera.yaml}", "camera: cal/camera.yaml, fps: 3}",
+       "session.yaml:3: unknown key 'fps' in 'cameras[0]'; allowed: camera, capture_fps, clip, "
+       "name, time_offset_s"},
+      {"capture_fps: 1000,", "capture_fps: -5,",
+       "session.yaml:4: key 'cameras[1].capture_fps': expected a positive capture rate in frames "
+       "per second, got '-5'"},
+      {"time_offset_s: 0.0002", "time_offset_s: soon",
+       "session.yaml:4: key 'cameras[1].time_offset_s': expected the camera's clock offset in s "
+       "(its frame i is at i / capture_fps + time_offset_s), got 'soon'"},
+      {", clip: side.mp4", "",
+       "session.yaml:3: key 'cameras[0].clip' is missing; expected a video file or a folder of "
+       "numbered images, relative to this file"},
+      {"capture_fps: 2000\n", "",
+       "session.yaml:2: key 'cameras[0].capture_fps' is missing; expected the camera's capture "
+       "rate in frames per second (or capture_fps at the top level for every camera)"},
+  };
+  for (const Case& c : cases) {
+    EXPECT_EQ(ErrorReadingText(ListSessionWith(c.from, c.to)), c.message) << c.to;
+  }
+  EXPECT_EQ(ErrorReadingText("capture_fps: 1000\ncameras: []\nbody: body.yaml\n"),
+            "session.yaml:2: key 'cameras': expected a list of at least one camera {name, clip, "
+            "camera}, got '[]'");
+}
+
+TEST_F(SessionListTest, EstimatingOffsetsNeedsASecondCamera) {
+  EXPECT_EQ(ErrorReading("estimate_time_offsets: true\n"),
+            "session.yaml:5: key 'estimate_time_offsets': expected false with a single camera "
+            "(the first camera sets the clock: with no second camera there is no offset to "
+            "estimate), got 'true'");
+  EXPECT_EQ(ErrorReadingText(
+                ListSessionWith("estimate_time_offsets: true", "estimate_time_offsets: 2")),
+            "session.yaml:5: key 'estimate_time_offsets': expected true or false, got '2'");
+}
+
+TEST_F(SessionListTest, ErrorsInACameraFileNameThatFile) {
+  WriteText("cal/top.yaml", "image_size: [640, 480]\nfx: wide\n");
+  EXPECT_EQ(ErrorReadingText(kListSession).rfind("cal/top.yaml:2: key 'fx'", 0), 0u)
+      << ErrorReadingText(kListSession);
 }
 
 }  // namespace

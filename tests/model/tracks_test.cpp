@@ -145,11 +145,84 @@ TEST_F(TracksCsvTest, MalformedRowsNameLineAndColumn) {
 
 TEST_F(TracksCsvTest, WrongHeaderIsRefused) {
   EXPECT_EQ(ErrorReading("frame,t,track,marker,x,y,q\n"),
-            "tracks.csv:1: expected the header 'frame,time_s,track,marker,x_px,y_px,quality', "
-            "got 'frame,t,track,marker,x,y,q'");
+            "tracks.csv:1: expected the header 'frame,time_s,track,marker,x_px,y_px,quality' (or "
+            "with ',camera' after it), got 'frame,t,track,marker,x,y,q'");
+  EXPECT_EQ(ErrorReading("camera,frame,time_s,track,marker,x_px,y_px,quality\n"),
+            "tracks.csv:1: expected the header 'frame,time_s,track,marker,x_px,y_px,quality' (or "
+            "with ',camera' after it), got 'camera,frame,time_s,track,marker,x_px,y_px,quality'");
   EXPECT_EQ(ErrorReading(""),
             "tracks.csv:1: expected the header 'frame,time_s,track,marker,x_px,y_px,quality', "
             "got an empty file");
+}
+
+// ---- the camera column (several cameras) -------------------------------------------------
+
+constexpr const char* kCameraHeader = "frame,time_s,track,marker,x_px,y_px,quality,camera\n";
+
+TEST_F(TracksCsvTest, CameraColumnIsWrittenAndReadBackWhenAPointIsOfAnotherCamera) {
+  std::vector<TrackPoint> points;
+  for (int camera = 0; camera < 3; ++camera) {
+    for (int frame = 0; frame < 4; ++frame) {
+      TrackPoint point;
+      point.frame = frame;
+      point.time_s = frame / 1000.0;
+      point.track = 1;  // track ids are per camera
+      point.marker = 2;
+      point.x_px = 100.0 + camera;
+      point.y_px = 50.0 + frame;
+      point.camera = camera;
+      points.push_back(point);
+    }
+  }
+  const fs::path path = folder_ / "tracks.csv";
+  WriteTracksCsv(points, path);
+  std::ifstream in(path);
+  std::string header, first, last, line;
+  std::getline(in, header);
+  std::getline(in, first);
+  while (std::getline(in, line)) last = line;
+  EXPECT_EQ(header + "\n", kCameraHeader);  // the contract's columns first, unchanged
+  EXPECT_EQ(first, "0,0,1,2,100.000000,50.000000,1,0");
+  EXPECT_EQ(last, "3,0.003,1,2,102.000000,53.000000,1,2");
+  const std::vector<TrackPoint> back = ReadTracksCsv(path);
+  ASSERT_EQ(back.size(), points.size());
+  for (size_t i = 0; i < points.size(); ++i) {
+    EXPECT_EQ(back[i].camera, points[i].camera);
+    EXPECT_EQ(back[i].frame, points[i].frame);
+    EXPECT_EQ(back[i].x_px, points[i].x_px);
+  }
+}
+
+TEST_F(TracksCsvTest, FirstCameraOnlyIsWrittenWithoutTheCameraColumn) {
+  TrackPoint point;
+  point.marker = 1;
+  const fs::path path = folder_ / "tracks.csv";
+  WriteTracksCsv({point}, path);
+  std::ifstream in(path);
+  std::string header;
+  std::getline(in, header);
+  EXPECT_EQ(header + "\n", kHeader);
+  // A file with the column whose points are all of the first camera reads the same.
+  const std::vector<TrackPoint> points =
+      ReadTracksCsv(Write(std::string(kCameraHeader) + "7,0.007,0,3,1.5,2.5,0.5,0\n"));
+  ASSERT_EQ(points.size(), 1u);
+  EXPECT_EQ(points[0].camera, 0);
+  EXPECT_EQ(points[0].marker, 3);
+}
+
+TEST_F(TracksCsvTest, MalformedCameraColumnNamesLineAndColumn) {
+  const std::string head = std::string(kCameraHeader) + "1,0.001,0,5,1.5,2.5,0.5,1\n";
+  EXPECT_EQ(ErrorReading(head + "2,0.002,0,5,1.5,2.5,0.5,-1\n"),
+            "tracks.csv:3:25: column 'camera': expected an integer, 0 or more, got '-1'");
+  EXPECT_EQ(ErrorReading(head + "2,0.002,0,5,1.5,2.5,0.5,top\n"),
+            "tracks.csv:3:25: column 'camera': expected an integer, 0 or more, got 'top'");
+  EXPECT_EQ(ErrorReading(head + "2,0.002,0,5,1.5,2.5,0.5\n"),
+            "tracks.csv:3: expected 8 comma-separated fields "
+            "(frame,time_s,track,marker,x_px,y_px,quality,camera), got 7");
+  // Without the column in the header, a row with it has a field too many.
+  EXPECT_EQ(ErrorReading(std::string(kHeader) + "2,0.002,0,5,1.5,2.5,0.5,1\n"),
+            "tracks.csv:2: expected 7 comma-separated fields "
+            "(frame,time_s,track,marker,x_px,y_px,quality), got 8");
 }
 
 TEST_F(TracksCsvTest, MissingFileNamesThePath) {

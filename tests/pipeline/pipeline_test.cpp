@@ -5,31 +5,15 @@
 
 #include <gtest/gtest.h>
 
-#include <unistd.h>
-
 #include <fstream>
 
 #include "support/scenarios.hpp"
+#include "support/temp_dir.hpp"
 #include "tumbletrace/core/error.hpp"
 #include "tumbletrace/sim/simulate.hpp"
 
 namespace tumbletrace {
 namespace {
-
-class TempDir {
- public:
-  explicit TempDir(const std::string& name)
-      : path_(std::filesystem::temp_directory_path() /
-              ("tumbletrace_pipeline_" + name + "_" + std::to_string(::getpid()))) {
-    std::filesystem::remove_all(path_);
-    std::filesystem::create_directories(path_);
-  }
-  ~TempDir() { std::filesystem::remove_all(path_); }
-  const std::filesystem::path& path() const { return path_; }
-
- private:
-  std::filesystem::path path_;
-};
 
 Scenario ClipScenario(Scenario s) {
   s.exposure_s = 0.0002;       // blur of up to about 0.5 px
@@ -56,20 +40,24 @@ ClipRun SimulateWriteAnalyze(const Scenario& scenario, const std::filesystem::pa
   return run;
 }
 
-// Detected centres against the exact projections; identification; the bounds on
+// Detected centres against the exact projections of their camera; identification; the bounds on
 // the CM (3 sigma and 1.5 mm), velocity (0.5 %) and spin (0.2 %).
 void ExpectGoodRun(const ClipRun& run, double max_centre_rms_px = 0.15) {
   // Every identified point is nearest its own marker's true pixel (identification); the
   // rms is over points within 1 px of it, the others (a glint on a dot) at most 1 %.
   double sum_sq = 0.0;
   int n = 0, disturbed = 0;
+  const size_t markers_per_camera = run.sim.scenario.body.markers.size();
   for (const TrackPoint& p : run.analysis.tracking.points) {
     if (!p.marker) continue;
     const Eigen::Vector2d seen(p.x_px, p.y_px);
+    // The truth of the point's own camera.
     const auto& markers = run.sim.frames.at(p.frame).markers;
-    const double d = (seen - markers.at(*p.marker - 1).pixel).norm();
+    const MarkerTruth& own = markers.at(p.camera * markers_per_camera + *p.marker - 1);
+    EXPECT_EQ(own.camera, p.camera);
+    const double d = (seen - own.pixel).norm();
     for (const MarkerTruth& other : markers) {
-      if (other.id != *p.marker && other.visible) {
+      if (other.camera == p.camera && other.id != *p.marker && other.visible) {
         ASSERT_LT(d, (seen - other.pixel).norm()) << "frame " << p.frame << ": marker "
                                                   << *p.marker << " misidentified";
       }
@@ -105,19 +93,19 @@ void ExpectGoodRun(const ClipRun& run, double max_centre_rms_px = 0.15) {
 }
 
 TEST(Pipeline, PlanarSpinClipWithBlurAndNoise) {
-  TempDir dir("planar");
+  testing::TempDir dir("pipeline_planar");
   const ClipRun run = SimulateWriteAnalyze(ClipScenario(testing::PlanarSpinScenario(0.0, 41)), dir.path());
   ExpectGoodRun(run);
-  EXPECT_EQ(run.analysis.tracking.identification.marker_of_track.size(), 6u);
+  EXPECT_EQ(run.analysis.tracking.cameras.at(0).identification.marker_of_track.size(), 6u);
 }
 
 TEST(Pipeline, ObliqueViewClip) {
-  TempDir dir("oblique");
+  testing::TempDir dir("pipeline_oblique");
   ExpectGoodRun(SimulateWriteAnalyze(ClipScenario(testing::ObliqueSpinScenario(0.0, 42)), dir.path()));
 }
 
 TEST(Pipeline, MarkerHiddenForTwentyFrames) {
-  TempDir dir("hidden");
+  testing::TempDir dir("pipeline_hidden");
   Scenario s = ClipScenario(testing::PlanarSpinScenario(0.0, 43));
   s.occlusions.push_back({3, 100, 119});
   const ClipRun run = SimulateWriteAnalyze(s, dir.path());
@@ -128,21 +116,21 @@ TEST(Pipeline, MarkerHiddenForTwentyFrames) {
 }
 
 TEST(Pipeline, TwoGlintsPerFrame) {
-  TempDir dir("glints");
+  testing::TempDir dir("pipeline_glints");
   Scenario s = ClipScenario(testing::PlanarSpinScenario(0.0, 44));
   s.glints_per_frame = 2;
   ExpectGoodRun(SimulateWriteAnalyze(s, dir.path()));
 }
 
 TEST(Pipeline, ImageSequenceWithAMissingFrameIsReported) {
-  TempDir dir("images");
+  testing::TempDir dir("pipeline_images");
   Scenario s = ClipScenario(testing::PlanarSpinScenario(0.0, 45));
   s.video.image_folder = true;
   const ClipRun run = SimulateWriteAnalyze(s, dir.path(), [](const std::filesystem::path& d) {
     std::filesystem::remove(d / "frames" / "frame_000137.png");
   });
   ExpectGoodRun(run, 0.1);  // lossless frames
-  const auto& missing = run.analysis.tracking.clip.missing_frames;
+  const auto& missing = run.analysis.tracking.cameras.at(0).clip.missing_frames;
   ASSERT_EQ(missing, std::vector<int>{137});
   bool warned = false;
   for (const std::string& w : run.analysis.fit.warnings) warned |= w.find("137") != std::string::npos;
@@ -150,7 +138,7 @@ TEST(Pipeline, ImageSequenceWithAMissingFrameIsReported) {
 }
 
 TEST(Pipeline, ClipWithoutMarkersIsRefused) {
-  TempDir dir("nomarkers");
+  testing::TempDir dir("pipeline_nomarkers");
   Scenario s = ClipScenario(testing::PlanarSpinScenario(0.0, 46));
   s.video.dot_level = s.video.body_level;  // the dots do not show
   s.frames = 60;
@@ -161,7 +149,7 @@ TEST(Pipeline, ClipWithoutMarkersIsRefused) {
 }
 
 TEST(Pipeline, MissingImageFolderIsBadInput) {
-  TempDir dir("nofolder");
+  testing::TempDir dir("pipeline_nofolder");
   Scenario s = ClipScenario(testing::PlanarSpinScenario(0.0, 47));
   s.video.image_folder = true;
   s.frames = 20;
@@ -172,7 +160,7 @@ TEST(Pipeline, MissingImageFolderIsBadInput) {
 }
 
 TEST(Pipeline, TruncatedVideoIsBadInput) {
-  TempDir dir("truncated");
+  testing::TempDir dir("pipeline_truncated");
   Scenario s = ClipScenario(testing::PlanarSpinScenario(0.0, 48));
   s.frames = 120;
   WriteSimulation(SimulateFlight(s), dir.path(), {});
@@ -183,16 +171,118 @@ TEST(Pipeline, TruncatedVideoIsBadInput) {
 }
 
 TEST(Pipeline, PlaybackRateAsCaptureRateIsWarned) {
-  TempDir dir("rate");
+  testing::TempDir dir("pipeline_rate");
   Scenario s = ClipScenario(testing::PlanarSpinScenario(0.0, 49));
   s.frames = 80;
   WriteSimulation(SimulateFlight(s), dir.path(), {});
   Session session = ReadSessionYaml(dir.path() / "session.yaml");
-  session.capture_fps = 30;  // the file's playback rate, taken for the capture rate
+  session.cameras[0].capture_fps = 30;  // the file's playback rate, taken for the capture rate
   const TrackingResult tracking = TrackClip(session, TrackingOptions{}, {});
   bool warned = false;
   for (const std::string& w : tracking.warnings) warned |= w.find("capture") != std::string::npos;
   EXPECT_TRUE(warned);
+}
+
+// Two cameras: the front one and a second, oblique view from the other side, whose frame i
+// is exposed 0.4 ms after the front camera's. Each clip (lossless frames, one missing in the
+// side camera's) is tracked and identified with its own calibration; the fit of both with
+// that offset given in the session finds the CM, and reports the rms of each camera. Small
+// images and a short flight keep it quick.
+TEST(Pipeline, TwoCamerasWithAKnownClockOffset) {
+  constexpr double kSideOffsetS = 0.0004;
+  testing::TempDir dir("pipeline_two_cameras");
+  Scenario s = ClipScenario(testing::TwoCameraScenario(0.0, 50, kSideOffsetS));
+  for (ScenarioCamera& c : s.cameras) c.camera = testing::CentralWindow(c.camera, 640, 480);
+  s.frames = 120;
+  s.video.supersampling = 2;
+  s.video.exposure_samples = 3;
+  s.video.image_folder = true;
+  const auto give_the_offset = [&](const std::filesystem::path& d) {
+    std::filesystem::remove(d / "side" / "frame_000057.png");
+    Session session = ReadSessionYaml(d / "session.yaml");
+    ASSERT_EQ(session.cameras.size(), 2u);
+    EXPECT_EQ(session.cameras[1].time_offset_s, 0.0);  // simulate leaves it to the fit
+    session.cameras[1].time_offset_s = kSideOffsetS;    // as measured by the user
+    WriteSessionYaml(session, d / "session.yaml");
+  };
+  const ClipRun run = SimulateWriteAnalyze(s, dir.path(), give_the_offset);
+  ASSERT_EQ(run.session.TimeOffsets(), (std::vector<double>{0.0, kSideOffsetS}));
+
+  const TrackingResult& tracking = run.analysis.tracking;
+  ASSERT_EQ(tracking.cameras.size(), 2u);
+  for (int k = 0; k < 2; ++k) {
+    EXPECT_EQ(tracking.cameras[k].name, k == 0 ? "front" : "side");
+    EXPECT_EQ(tracking.cameras[k].frames_read, k == 0 ? 120 : 119);
+    EXPECT_EQ(tracking.cameras[k].clip.size, cv::Size(640, 480));
+    EXPECT_EQ(tracking.cameras[k].identification.marker_of_track.size(), 6u);
+  }
+  EXPECT_EQ(tracking.cameras[1].clip.missing_frames, std::vector<int>{57});
+  // The missing frame is warned of, with the camera's name.
+  bool warned = false;
+  for (const std::string& w : run.analysis.fit.warnings) {
+    warned |= w.rfind("side: ", 0) == 0 && w.find("57") != std::string::npos;
+  }
+  EXPECT_TRUE(warned);
+  ExpectGoodRun(run, 0.1);  // lossless frames
+
+  const FitResult& fit = run.analysis.fit;
+  ASSERT_EQ(fit.rms_px_per_camera.size(), 2u);
+  for (double rms_px : fit.rms_px_per_camera) {
+    EXPECT_GT(rms_px, 0.0);
+    EXPECT_LT(rms_px, 0.08);  // lossless frames; the offset held at 0 gives the side camera 0.14
+  }
+  std::printf("rms per camera: front %.4f px, side %.4f px\n", fit.rms_px_per_camera[0],
+              fit.rms_px_per_camera[1]);
+
+  // Held at 0 instead, the side camera's offset leaves pixels of misfit in its residuals.
+  FitOptions no_offsets = FitOptionsFor(run.session);
+  no_offsets.time_offsets_s = {0.0, 0.0};
+  const FitResult unsynchronised =
+      FitFreeFlight(GroupByFrame(tracking.points, run.session.CaptureRates()), run.session.body,
+                    run.session.CameraModels(), no_offsets);
+  EXPECT_GT(unsynchronised.rms_px, 2.0 * fit.rms_px);
+}
+
+TEST(Pipeline, TrackingReportsProgressOverEveryCamera) {
+  testing::TempDir dir("pipeline_progress");
+  Scenario s = ClipScenario(testing::TwoCameraScenario(0.0, 51));
+  for (ScenarioCamera& c : s.cameras) c.camera = testing::CentralWindow(c.camera, 640, 480);
+  s.frames = 30;
+  s.exposure_s = 0.0;
+  WriteSimulation(SimulateFlight(s), dir.path(), {});
+  const Session session = ReadSessionYaml(dir.path() / "session.yaml");
+  std::vector<std::pair<int, int>> calls;
+  const TrackingResult tracking = TrackClip(
+      session, TrackingOptions{}, [&](int done, int total) { calls.emplace_back(done, total); });
+  ASSERT_EQ(calls.size(), 60u);
+  EXPECT_EQ(calls[29], std::make_pair(30, 60));
+  EXPECT_EQ(calls[30], std::make_pair(31, 60));
+  EXPECT_EQ(calls.back(), std::make_pair(60, 60));
+  int side_points = 0;
+  for (const TrackPoint& p : tracking.points) side_points += p.camera == 1;
+  EXPECT_GT(side_points, 30 * 6 * 9 / 10);
+}
+
+TEST(Pipeline, FitNeedsThePoseOfEveryCameraAndNamesTheOneWithout) {
+  Session session;
+  session.file = "session.yaml";
+  session.gravity.vector_mps2 = Eigen::Vector3d(0, 0, -9.81);
+  const Camera posed = testing::FacingCamera();
+  session.cameras.push_back({"front", "front.mp4", 1000.0, "front.yaml", posed, 0.0});
+  session.cameras.push_back({"side", "side.mp4", 1000.0, "side.yaml", posed, 2e-4});
+  session.estimate_time_offsets = true;
+  const FitOptions options = FitOptionsFor(session);
+  EXPECT_EQ(options.time_offsets_s, (std::vector<double>{0.0, 2e-4}));
+  EXPECT_TRUE(options.estimate_time_offsets);
+  session.cameras[1].camera.camera_from_world.reset();
+  try {
+    FitOptionsFor(session);
+    ADD_FAILURE() << "no InputError";
+  } catch (const InputError& e) {
+    EXPECT_EQ(std::string(e.what()),
+              "session.yaml: camera 'side' (side.yaml): the fit needs world_to_camera in every "
+              "camera file; estimating the camera's pose from the flight is not available yet");
+  }
 }
 
 }  // namespace

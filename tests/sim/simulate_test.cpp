@@ -2,7 +2,14 @@
 
 #include <gtest/gtest.h>
 
+#include <fstream>
+#include <nlohmann/json.hpp>
+
 #include "support/scenarios.hpp"
+#include "support/temp_dir.hpp"
+#include "tumbletrace/clip/frame_source.hpp"
+#include "tumbletrace/detect/marker_detector.hpp"
+#include "tumbletrace/model/session.hpp"
 
 namespace tumbletrace {
 namespace {
@@ -36,6 +43,125 @@ TEST(Simulate, StateAtMatchesTheFrames) {
   EXPECT_LT((mid.cm_world_m - sim.frames[100].state.cm_world_m).norm(), 1e-12);
   const RigidState between = StateAt(sim, 0.1005);
   EXPECT_GT((between.cm_world_m - sim.frames[100].state.cm_world_m).norm(), 1e-4);
+}
+
+// ---- several cameras ---------------------------------------------------------------------
+
+constexpr double kSideOffsetS = 0.0004;
+
+// Each camera's truth is the projection of the body at its own exposure time: frame i of
+// camera k at i / fps + offset_k. Checked against the state StateAt gives for that time.
+TEST(Simulate, EachCameraSeesTheBodyAtItsOwnClock) {
+  const Scenario s = testing::TwoCameraScenario(0.0, 3, kSideOffsetS);
+  const Simulation sim = SimulateFlight(s);
+  const std::vector<ScenarioCamera> cameras = s.FilmingCameras();
+  ASSERT_EQ(cameras.size(), 2u);
+  for (int frame : {0, 80, 249}) {
+    const FrameTruth& f = sim.frames[frame];
+    ASSERT_EQ(f.markers.size(), 2u * s.body.markers.size());
+    for (const MarkerTruth& m : f.markers) {
+      const ScenarioCamera& camera = cameras.at(m.camera);
+      const RigidState state = StateAt(sim, f.time_s + camera.time_offset_s);
+      const Marker& marker = *s.body.FindMarker(m.id);
+      const Eigen::Vector3d world =
+          state.cm_world_m + state.world_from_body * (marker.at_body_m - sim.mass.cm_body_m);
+      const Eigen::Vector3d x_cam = camera.camera.camera_from_world->Apply(world);
+      Eigen::Vector2d pixel;
+      ASSERT_TRUE(ProjectCameraPoint(camera.camera.intrinsics, x_cam.data(), pixel.data()));
+      EXPECT_LT((pixel - m.pixel).norm(), 1e-6) << "frame " << frame << " camera " << m.camera;
+      EXPECT_TRUE(m.visible) << "frame " << frame << " camera " << m.camera << " marker " << m.id;
+    }
+    // The views differ: markers land pixels apart in the two images (not just by the offset).
+    double farthest_px = 0.0;
+    for (size_t i = 0; i < s.body.markers.size(); ++i) {
+      farthest_px = std::max(
+          farthest_px, (f.markers[i].pixel - f.markers[i + s.body.markers.size()].pixel).norm());
+    }
+    EXPECT_GT(farthest_px, 5.0) << "frame " << frame;
+  }
+  // Every marker in every frame of both cameras, each point with its camera.
+  ASSERT_EQ(sim.tracks.size(), 2u * 250u * 6u);
+  int of_side = 0;
+  for (const TrackPoint& p : sim.tracks) of_side += p.camera == 1;
+  EXPECT_EQ(of_side, 250 * 6);
+}
+
+// simulate's files for two cameras: one camera file each, a list-form session without the
+// offsets (the fit's to find), tracks with the camera column, the offsets in truth.json.
+TEST(Simulate, TwoCamerasWriteTheirFilesAndAListSession) {
+  testing::TempDir dir("simulate_files");
+  Scenario s = testing::TwoCameraScenario(0.0, 4, kSideOffsetS);
+  s.frames = 10;
+  WriteSimulation(SimulateFlight(s), dir.path(), {});
+  const Session session = ReadSessionYaml(dir.path() / "session.yaml");
+  ASSERT_EQ(session.cameras.size(), 2u);
+  EXPECT_EQ(session.cameras[0].name, "front");
+  EXPECT_EQ(session.cameras[1].name, "side");
+  EXPECT_EQ(session.cameras[1].clip.filename(), "side.mp4");
+  EXPECT_EQ(session.cameras[1].camera_file.filename(), "side_camera.yaml");
+  EXPECT_EQ(session.cameras[1].time_offset_s, 0.0);
+  EXPECT_EQ(session.cameras[1].capture_fps, s.capture_fps);
+  EXPECT_EQ(session.cameras[1].camera.intrinsics.distortion,
+            testing::SecondObliqueCamera().intrinsics.distortion);
+  EXPECT_FALSE(std::filesystem::exists(dir.path() / "camera.yaml"));
+
+  const std::vector<TrackPoint> tracks = ReadTracksCsv(dir.path() / "tracks.csv");
+  ASSERT_EQ(tracks.size(), 2u * 10u * 6u);
+  EXPECT_EQ(tracks.back().camera, 1);
+
+  std::ifstream in(dir.path() / "truth.json");
+  const nlohmann::json truth = nlohmann::json::parse(in);
+  ASSERT_EQ(truth.at("cameras").size(), 2u);
+  EXPECT_EQ(truth["cameras"][1]["name"], "side");
+  EXPECT_EQ(truth["cameras"][1]["time_offset_s"].get<double>(), kSideOffsetS);
+  EXPECT_EQ(truth["cameras"][1]["time_offset_from_first_s"].get<double>(), kSideOffsetS);
+  const nlohmann::json& marker = truth["frames"][3]["markers"][6];
+  EXPECT_EQ(marker["camera"], 1);
+  EXPECT_EQ(marker["id"], 1);
+}
+
+// The clips as the pipeline reads them: in each camera's clip (H.264) the detected dots lie
+// at that camera's truth pixels, at its own exposure time.
+TEST(Simulate, EachCamerasClipShowsItsOwnDotsAtTheirTruePixels) {
+  testing::TempDir dir("simulate_clips");
+  Scenario s = testing::TwoCameraScenario(0.0, 6, kSideOffsetS);
+  for (ScenarioCamera& c : s.cameras) c.camera = testing::CentralWindow(c.camera, 640, 480);
+  s.frames = 8;
+  s.video.write = true;
+  s.video.supersampling = 2;
+  const Simulation sim = SimulateFlight(s);
+  WriteSimulation(sim, dir.path(), {});
+  const Session session = ReadSessionYaml(dir.path() / "session.yaml");
+  for (int k = 0; k < 2; ++k) {
+    std::unique_ptr<FrameSource> clip = OpenClip(session.cameras[k].clip);
+    MarkerDetector detector(DetectorOptions{});
+    Frame frame;
+    int frames = 0;
+    double sum_sq = 0.0, worst = 0.0;
+    int n = 0;
+    while (clip->Next(&frame)) {
+      ++frames;
+      EXPECT_EQ(frame.image.cols, 640);
+      const std::vector<Detection> detections = detector.Detect(frame.image);
+      for (const MarkerTruth& m : sim.frames.at(frame.index).markers) {
+        if (m.camera != k) continue;
+        ASSERT_TRUE(m.visible);
+        double nearest = 1e9;
+        for (const Detection& d : detections) {
+          nearest = std::min(nearest, (d.center_px - m.pixel).norm());
+        }
+        sum_sq += nearest * nearest;
+        worst = std::max(worst, nearest);
+        ++n;
+      }
+    }
+    EXPECT_EQ(frames, 8) << session.cameras[k].name;
+    ASSERT_EQ(n, 8 * 6);
+    // H.264 moves centroids by about 0.09 px rms (docs/scenario.md); a clock or a camera
+    // mixed up moves them by pixels.
+    EXPECT_LT(std::sqrt(sum_sq / n), 0.2) << session.cameras[k].name;
+    EXPECT_LT(worst, 0.5) << session.cameras[k].name;
+  }
 }
 
 }  // namespace

@@ -37,12 +37,16 @@ inline int CorruptTracks(std::vector<TrackPoint>* tracks, double fraction, std::
   return n;
 }
 
+// Every camera of the scenario takes part; the fit's clock offsets are those of `options`.
 inline Recovery SimulateAndFit(const Scenario& s, const FitOptions& options,
                                double outlier_fraction = 0.0) {
   Recovery r;
   r.sim = SimulateFlight(s);
   if (outlier_fraction > 0) CorruptTracks(&r.sim.tracks, outlier_fraction, s.seed + 77);
-  r.fit = FitFreeFlight(GroupByFrame(r.sim.tracks, s.capture_fps), s.body, s.camera, options);
+  std::vector<Camera> cameras;
+  for (const ScenarioCamera& c : s.FilmingCameras()) cameras.push_back(c.camera);
+  const std::vector<double> rates(cameras.size(), s.capture_fps);
+  r.fit = FitFreeFlight(GroupByFrame(r.sim.tracks, rates), s.body, cameras, options);
   r.summary = Summarise(r.fit, s.body);
   return r;
 }

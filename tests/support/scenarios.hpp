@@ -1,5 +1,5 @@
 // Invented test scenarios: a 300 mm hammer-like tool (wooden handle, steel head) thrown in
-// front of one camera. Values are made up for the tests; they describe no real product.
+// front of one camera, or two. Values are made up for the tests; they describe no real product.
 #pragma once
 
 #include <Eigen/Geometry>
@@ -61,15 +61,11 @@ inline Camera FacingCamera() {
   return camera;
 }
 
-// The same camera turned 35 degrees about the vertical and 12 degrees down, placed so
-// that the flight stays in view: an oblique view of the flight plane.
-inline Camera ObliqueCamera() {
-  Camera camera = FacingCamera();
-  camera.intrinsics.distortion = {-0.12, 0.05, 3e-4, -2e-4, -0.01};
-  const Eigen::Vector3d centre_world(-2.0 * std::sin(35 * M_PI / 180), -3.0 * std::cos(35 * M_PI / 180), 0.6);
-  // Camera axes in the world: look towards the flight region's centre.
-  const Eigen::Vector3d target(0.0, 0.0, 0.0);
-  const Eigen::Vector3d z_cam = (target - centre_world).normalized();
+// The pose of a camera at `centre_world` looking at `target_world`, its image rows level
+// (world z up).
+inline RigidTransform LookingAt(const Eigen::Vector3d& centre_world,
+                                const Eigen::Vector3d& target_world) {
+  const Eigen::Vector3d z_cam = (target_world - centre_world).normalized();
   const Eigen::Vector3d x_cam = z_cam.cross(Eigen::Vector3d::UnitZ()).normalized();
   const Eigen::Vector3d y_cam = z_cam.cross(x_cam);
   RigidTransform pose;
@@ -77,7 +73,36 @@ inline Camera ObliqueCamera() {
   pose.rotation.row(1) = y_cam;
   pose.rotation.row(2) = z_cam;
   pose.translation_m = -pose.rotation * centre_world;
-  camera.camera_from_world = pose;
+  return pose;
+}
+
+// The same camera turned 35 degrees about the vertical and 12 degrees down, placed so
+// that the flight stays in view: an oblique view of the flight plane.
+inline Camera ObliqueCamera() {
+  Camera camera = FacingCamera();
+  camera.intrinsics.distortion = {-0.12, 0.05, 3e-4, -2e-4, -0.01};
+  const Eigen::Vector3d centre_world(-2.0 * std::sin(35 * M_PI / 180), -3.0 * std::cos(35 * M_PI / 180), 0.6);
+  // Look towards the flight region's centre.
+  camera.camera_from_world = LookingAt(centre_world, Eigen::Vector3d::Zero());
+  return camera;
+}
+
+// A second view from the other side and from above (about 40 degrees off the facing
+// camera's line of sight, 27 degrees down), with a distortion of its own.
+inline Camera SecondObliqueCamera() {
+  Camera camera = FacingCamera();
+  camera.intrinsics.distortion = {-0.10, 0.03, -2e-4, 3e-4, 0.004};
+  camera.camera_from_world = LookingAt(Eigen::Vector3d(1.6, -2.4, 1.5), Eigen::Vector3d::Zero());
+  return camera;
+}
+
+// The central `width_px` x `height_px` window of a camera's image (a smaller sensor with the
+// same lens): the same focal length, the principal point moved into the window.
+inline Camera CentralWindow(Camera camera, int width_px, int height_px) {
+  camera.intrinsics.cx_px -= 0.5 * (camera.intrinsics.width_px - width_px);
+  camera.intrinsics.cy_px -= 0.5 * (camera.intrinsics.height_px - height_px);
+  camera.intrinsics.width_px = width_px;
+  camera.intrinsics.height_px = height_px;
   return camera;
 }
 
@@ -105,6 +130,17 @@ inline Scenario PlanarSpinScenario(double tracks_sigma_px = 0.2, std::uint64_t s
 inline Scenario ObliqueSpinScenario(double tracks_sigma_px = 0.2, std::uint64_t seed = 1) {
   Scenario s = PlanarSpinScenario(tracks_sigma_px, seed);
   s.camera = ObliqueCamera();
+  return s;
+}
+
+// The planar throw filmed by two cameras: "front" (the facing camera, which sets the clock)
+// and "side" (the second oblique view), whose frame i is exposed `side_offset_s` after the
+// front camera's.
+inline Scenario TwoCameraScenario(double tracks_sigma_px = 0.2, std::uint64_t seed = 1,
+                                  double side_offset_s = 0.0) {
+  Scenario s = PlanarSpinScenario(tracks_sigma_px, seed);
+  s.cameras = {{"front", "front_camera.yaml", FacingCamera(), 0.0},
+               {"side", "side_camera.yaml", SecondObliqueCamera(), side_offset_s}};
   return s;
 }
 

@@ -1,10 +1,12 @@
-// session.yaml: one throw filmed by one camera (../shared/CONTRACT.md).
+// session.yaml: one throw filmed by one camera, or by several synchronised ones
+// (../shared/CONTRACT.md; the list form in docs/files.md).
 #pragma once
 
 #include <Eigen/Core>
 #include <filesystem>
 #include <optional>
 #include <string>
+#include <vector>
 
 #include "tumbletrace/model/body.hpp"
 #include "tumbletrace/model/camera.hpp"
@@ -38,26 +40,45 @@ struct MarkerDetectionSettings {
   std::optional<int> background_radius_px;  // the detector's background disc; wider than a dot
 };
 
+// One camera of a session: its clip, its calibration and its clock. Frame i of its clip is
+// exposed at world time i / capture_fps + time_offset_s.
+struct SessionCamera {
+  std::string name;                   // "camera" in the single-camera form
+  std::filesystem::path clip;         // resolved relative to the session file
+  double capture_fps = 0.0;
+  std::filesystem::path camera_file;  // resolved relative to the session file
+  Camera camera;
+  double time_offset_s = 0.0;
+};
+
+// The name the single-camera form gives its camera.
+inline constexpr const char* kSingleCameraName = "camera";
+
 struct Session {
   std::filesystem::path file;          // the session file itself
-  std::filesystem::path clip;          // resolved relative to the session file
-  double capture_fps = 0.0;
-  std::filesystem::path camera_file;
+  std::vector<SessionCamera> cameras;  // one in the single-camera form, in file order
+  double capture_fps = 0.0;            // the default capture rate of every camera
   std::filesystem::path body_file;
-  Camera camera;
   Body body;
   GravitySpec gravity;
   MarkerDetectionSettings markers;
-  std::optional<int> first_frame;      // optional frame range of the clip to use
+  std::optional<int> first_frame;      // optional frame range of every clip to use
   std::optional<int> last_frame;
+  // Estimate every camera's clock offset relative to the first camera's in the fit.
+  bool estimate_time_offsets = false;
 
-  double FrameTime(int frame) const { return frame / capture_fps; }
+  // Per camera, in the order of `cameras`.
+  std::vector<double> CaptureRates() const;
+  std::vector<Camera> CameraModels() const;
+  std::vector<double> TimeOffsets() const;
 };
 
 // Reads the session and the camera and body files it names (paths relative to the
 // session file). Throws InputError naming file and key.
 Session ReadSessionYaml(const std::filesystem::path& path);
-// Writes session.yaml with the given file names (relative paths kept as given).
+// Writes session.yaml with the given file names (relative paths kept as given): the
+// single-camera form for one camera it can express (named "camera", the session's rate, no
+// clock offset), the list form otherwise.
 void WriteSessionYaml(const Session& session, const std::filesystem::path& path);
 
 }  // namespace tumbletrace

@@ -1,6 +1,8 @@
 // tracks.csv: one row per detection in a track (../shared/CONTRACT.md)
-//   frame,time_s,track,marker,x_px,y_px,quality
-// `marker` is the body marker id, empty while unidentified.
+//   frame,time_s,track,marker,x_px,y_px,quality[,camera]
+// `marker` is the body marker id, empty while unidentified. The optional last column
+// `camera` is the index of the camera in the session's list (0 when absent); track ids are
+// per camera.
 #pragma once
 
 #include <filesystem>
@@ -21,7 +23,8 @@ struct TrackPoint {
   int camera = 0;        // index of the camera in the session's list
 };
 
-// Throws InputError naming the file, the line and the column on malformed rows.
+// Throws InputError naming the file, the line and the column on malformed rows. The header
+// decides whether the camera column is there; it is written when a point has camera != 0.
 std::vector<TrackPoint> ReadTracksCsv(const std::filesystem::path& path);
 void WriteTracksCsv(const std::vector<TrackPoint>& points, const std::filesystem::path& path);
 

@@ -23,22 +23,30 @@ struct TrackingOptions {
   IdentifyOptions identify;
 };
 
-struct TrackingResult {
-  std::vector<TrackPoint> points;  // identified where possible
+// What tracking found in one camera's clip.
+struct CameraTracking {
+  std::string name;            // the session's name for the camera
   ClipInfo clip;
   IdentifyReport identification;
   int frames_read = 0;
   int detections = 0;
-  std::vector<std::string> warnings;
 };
 
-// Called with the number of frames processed and the number expected (-1: unknown).
+struct TrackingResult {
+  std::vector<TrackPoint> points;       // every camera's, identified where possible, each
+                                        // with its camera's index; track ids are per camera
+  std::vector<CameraTracking> cameras;  // in the session's order
+  std::vector<std::string> warnings;    // prefixed with the camera's name when there are several
+};
+
+// Called with the number of frames processed and the number expected (-1: unknown), over
+// all the cameras' clips.
 using Progress = std::function<void(int done, int total)>;
 
-// Reads the session's clip frame by frame, detects the markers (near the tracker's
-// predictions, the whole frame where needed), tracks and identifies them. Throws
-// InputError for unreadable clips and DataError when no markers are found or they cannot
-// be identified.
+// Reads each camera's clip frame by frame, detects the markers (near the tracker's
+// predictions, the whole frame where needed), tracks and identifies them with that
+// camera's calibration. Throws InputError for unreadable clips and DataError when a camera
+// finds no markers or they cannot be identified (naming the clip).
 TrackingResult TrackClip(const Session& session, const TrackingOptions& options,
                          const Progress& progress);
 
@@ -48,13 +56,15 @@ struct Analysis {
   FlightSummary summary;
 };
 
-// TrackClip, then the free-flight fit of the identified tracks. Warnings of the tracking
-// stages are added to the fit's.
+// TrackClip, then the free-flight fit of the identified tracks of every camera (each camera's
+// frames timed by its own capture rate). Warnings of the tracking stages are added to the
+// fit's.
 Analysis AnalyzeSession(const Session& session, const TrackingOptions& tracking,
                         const FitOptions& fit, const Progress& progress);
 
-// The fit options a session implies (gravity, window); throws InputError for a session the
-// fit cannot take yet (gravity without direction, camera without pose).
+// The fit options a session implies (gravity, window, the cameras' clock offsets and whether
+// to estimate them); throws InputError for a session the fit cannot take yet (gravity
+// without direction, a camera without pose, named).
 FitOptions FitOptionsFor(const Session& session);
 
 }  // namespace tumbletrace

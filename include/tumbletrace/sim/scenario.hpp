@@ -4,7 +4,8 @@
 // scenario file.
 //
 //   body: body.yaml              # must carry a parts list (mass, CM and inertia)
-//   camera: camera.yaml          # must carry world_to_camera
+//   camera: camera.yaml          # must carry world_to_camera; or several synchronised cameras:
+//   cameras:                     #   [{name: side, camera: side.yaml, time_offset_s: 0.0003}, ..]
 //   capture_fps: 1000
 //   frames: 250
 //   exposure_s: 0.0002           # shutter time, centred on each frame time (0: no blur)
@@ -26,6 +27,7 @@
 #include <Eigen/Geometry>
 #include <cstdint>
 #include <filesystem>
+#include <string>
 #include <vector>
 
 #include "tumbletrace/model/body.hpp"
@@ -51,12 +53,22 @@ struct Occlusion {
   int last_frame = 0;
 };
 
+// One of several cameras filming the throw. Its frame i is exposed at world time
+// i / capture_fps + time_offset_s (its clock's true offset, which the fit should find).
+struct ScenarioCamera {
+  std::string name;  // names its files: <name>.mp4 or <name>/, <name>_camera.yaml
+  std::filesystem::path camera_file;
+  Camera camera;
+  double time_offset_s = 0.0;
+};
+
 struct Scenario {
   std::filesystem::path file;
   std::filesystem::path body_file;
-  std::filesystem::path camera_file;
+  std::filesystem::path camera_file;  // the single camera (`camera:`), when `cameras` is empty
   Body body;
   Camera camera;
+  std::vector<ScenarioCamera> cameras;  // several cameras (`cameras:`); `camera` is then unused
   double capture_fps = 1000.0;
   int frames = 250;
   double exposure_s = 0.0;
@@ -71,6 +83,11 @@ struct Scenario {
   std::vector<Occlusion> occlusions;
   int glints_per_frame = 0;          // spurious small bright spots at random places per frame
   VideoSettings video;
+
+  bool SeveralCameras() const { return !cameras.empty(); }
+  // The cameras the simulator films with: `cameras`, or the single `camera` named "camera"
+  // on the world clock.
+  std::vector<ScenarioCamera> FilmingCameras() const;
 };
 
 // Throws InputError naming the file and key.
