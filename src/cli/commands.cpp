@@ -6,10 +6,12 @@
 
 #include <cstdio>
 #include <iostream>
+#include <map>
 
 #include "tumbletrace/core/error.hpp"
 #include "tumbletrace/fit/free_flight_fit.hpp"
 #include "tumbletrace/fit/summary.hpp"
+#include "tumbletrace/model/mass_properties.hpp"
 #include "tumbletrace/model/session.hpp"
 #include "tumbletrace/model/tracks.hpp"
 #include "tumbletrace/pipeline/pipeline.hpp"
@@ -66,6 +68,25 @@ FitOptions FitOptionsFor(const Session& session, const FitChoices& choices) {
   options.gravity_mode = choices.estimate_gravity ? GravityMode::kEstimate : GravityMode::kFixed;
   if (choices.first_frame) options.first_frame = choices.first_frame;
   if (choices.last_frame) options.last_frame = choices.last_frame;
+  const std::map<std::string, RotationChoice> rotations = {
+      {"auto", RotationChoice::kAuto},
+      {"constant-spin", RotationChoice::kConstantSpin},
+      {"symmetric", RotationChoice::kSymmetricTop},
+      {"free", RotationChoice::kFreeTop}};
+  options.rotation = rotations.at(choices.rotation);  // CLI11 checked the name
+  if (choices.inertia_from_parts) {
+    if (session.body.parts.empty()) {
+      throw InputError(fmt::format("--inertia-from-parts: the body file {} has no parts list to "
+                                   "take the principal axes and moments from",
+                                   session.body_file.string()));
+    }
+    const MassProperties design = CombineParts(session.body.parts);
+    const PrincipalAxes principal = Principal(design.inertia_about_cm_kgm2);
+    options.held_inertia = HeldInertia{principal.axes_body, principal.moments_kgm2};
+    if (options.rotation == RotationChoice::kAuto || options.rotation == RotationChoice::kSymmetricTop) {
+      options.rotation = RotationChoice::kFreeTop;
+    }
+  }
   return options;
 }
 

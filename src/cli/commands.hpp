@@ -15,6 +15,8 @@ struct CommonOptions {
 // The fit's choices both `fit` and `analyze` offer.
 struct FitChoices {
   bool estimate_gravity = false;
+  std::string rotation = "auto";      // auto | constant-spin | symmetric | free
+  bool inertia_from_parts = false;    // hold principal axes and moment ratios
   std::optional<int> first_frame;  // the free-flight window; the session's when absent
   std::optional<int> last_frame;
 };

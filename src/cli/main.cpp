@@ -19,6 +19,16 @@ constexpr const char* kDescription =
 void AddFitChoices(CLI::App* command, tumbletrace::cli::FitChoices* choices) {
   command->add_flag("--estimate-gravity", choices->estimate_gravity,
                     "estimate all of g as a check of the camera's scale and the capture rate");
+  command->add_option("--rotation", choices->rotation,
+                      "rotation model: constant-spin (a spin about a principal axis), symmetric "
+                      "(two equal principal moments: a precessing symmetric top), free (three "
+                      "unequal moments: wobble, tumble, flips), or auto: all three fitted and "
+                      "the one with the lowest BIC reported, with the reason")
+      ->capture_default_str()
+      ->check(CLI::IsMember({"auto", "constant-spin", "symmetric", "free"}));
+  command->add_flag("--inertia-from-parts", choices->inertia_from_parts,
+                    "hold the principal axes and moment ratios at those of the body's parts "
+                    "list instead of estimating them (free model)");
   command->add_option("--first-frame", choices->first_frame, "first frame of the free-flight window");
   command->add_option("--last-frame", choices->last_frame, "last frame of the free-flight window");
 }
@@ -43,7 +53,8 @@ int main(int argc, char** argv) {
   CLI::App* analyze_cmd = app.add_subcommand(
       "analyze",
       "The whole job: markers in the clip -> tracks -> identified markers -> free-flight fit; "
-      "writes results.json (CM in the body frame, launch state, spin, with uncertainty), "
+      "writes results.json (CM in the body frame, launch state, spin, principal axes and "
+      "moment ratios when the body tumbles, all with uncertainty), "
       "frames.csv, residuals.csv and tracks.csv, and prints a summary.");
   analyze_cmd->add_option("session", analyze.session, "session YAML file")->required()->check(CLI::ExistingFile);
   analyze_cmd->add_option("-o,--out", analyze.out_dir, "output folder (created when missing)")->required();
@@ -63,7 +74,7 @@ int main(int argc, char** argv) {
   cli::FitCommandOptions fit;
   CLI::App* fit_cmd = app.add_subcommand(
       "fit",
-      "Fit the free-flight model (ballistic CM, constant spin, calibrated camera) to "
+      "Fit the free-flight model (ballistic CM, torque-free rotation, calibrated cameras) to "
       "identified marker tracks; writes results.json, frames.csv and residuals.csv.");
   fit_cmd->add_option("session", fit.session, "session YAML file")->required()->check(CLI::ExistingFile);
   fit_cmd->add_option("--tracks", fit.tracks, "tracks.csv with identified markers")

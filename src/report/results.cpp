@@ -97,8 +97,65 @@ json ResultsJson(const FitResult& fit, const FlightSummary& s, const Provenance&
       {"rate_rpm", 60.0 * s.rate_rev_per_s}};
   j["window"] = {{"first_frame", fit.first_frame}, {"last_frame", fit.last_frame},
                  {"frames_used", fit.frames_used}};
-  j["rotation"] = {{"model", "constant-spin"}};
-  j["inertia"] = {{"ratios", nullptr}, {"sigma_ratios", nullptr}, {"axes_body", nullptr}};
+  {
+    json trials = json::array();
+    for (const FitResult::ModelTrial& t : fit.model_trials) {
+      trials.push_back({{"model", RotationModelName(t.model)},
+                        {"parameters", t.parameters},
+                        {"sum_sq_px2", t.sum_sq_px2},
+                        {"bic", t.bic},
+                        {"converged", t.converged}});
+    }
+    json flips = json::array();
+    for (double t : s.flip_times_s) flips.push_back(t);
+    j["rotation"] = {{"model", RotationModelName(s.rotation_model)},
+                     {"reason", s.rotation_reason},
+                     {"criterion", fit.model_trials.empty() ? "asked for" : "BIC"},
+                     {"models_tried", trials},
+                     {"angular_momentum_world_unit", Vec(s.angular_momentum_world_unit)},
+                     {"sigma_angular_momentum_deg", s.sigma_angular_momentum_deg},
+                     {"flip_times_s", flips}};
+  }
+  {
+    // Column k of axes_body is principal axis k (I1 <= I2 <= I3); a column the model leaves
+    // open (the equal pair of a symmetric top) is null.
+    json axes = nullptr, sigma_axes = nullptr;
+    if (s.inertia_ratios) {
+      axes = json::array();
+      for (int row = 0; row < 3; ++row) {
+        json r = json::array();
+        for (int k = 0; k < 3; ++k) {
+          r.push_back(s.inertia_axes_body[k] ? json((*s.inertia_axes_body[k])[row]) : json(nullptr));
+        }
+        axes.push_back(r);
+      }
+      sigma_axes = json::array();
+      for (int k = 0; k < 3; ++k) sigma_axes.push_back(Maybe(s.inertia_sigma_axes_deg[k]));
+    }
+    j["inertia"] = {
+        {"ratios", s.inertia_ratios ? json({(*s.inertia_ratios)[0], (*s.inertia_ratios)[1]}) : json(nullptr)},
+        {"sigma_ratios", s.inertia_sigma_ratios
+                             ? json({(*s.inertia_sigma_ratios)[0], (*s.inertia_sigma_ratios)[1]})
+                             : json(nullptr)},
+        {"axes_body", axes},
+        {"sigma_axes_deg", sigma_axes},
+        {"held_from_parts", s.inertia_held}};
+  }
+  j["energy"] = {{"translational_per_mass_jpkg", s.translational_energy_per_mass_jpkg},
+                 {"rotational_per_mass_jpkg", Maybe(s.rotational_energy_per_mass_jpkg)},
+                 {"translational_j", Maybe(s.translational_energy_j)},
+                 {"rotational_j", Maybe(s.rotational_energy_j)},
+                 {"rotational_source", s.rotational_energy_j ? "parts list inertia" : "none: the flight gives the inertia's ratios, not its scale; add a parts list"}};
+  {
+    json cameras = json::array();
+    for (size_t k = 0; k < s.rms_px_per_camera.size(); ++k) {
+      cameras.push_back({{"index", k},
+                         {"rms_px", s.rms_px_per_camera[k]},
+                         {"time_offset_s", s.time_offsets_s[k]},
+                         {"sigma_time_offset_s", s.sigma_time_offsets_s[k]}});
+    }
+    j["cameras"] = cameras;
+  }
   j["drag"] = {{"model", "none"}, {"k_per_m", nullptr}, {"sigma_k_per_m", nullptr}};
   j["gravity"] = {{"world_mps2", Vec(s.gravity_world_mps2)},
                   {"estimated", s.sigma_gravity_mps2.has_value()},
@@ -110,7 +167,7 @@ json ResultsJson(const FitResult& fit, const FlightSummary& s, const Provenance&
               {"outliers", fit.outliers},
               {"degrees_of_freedom", fit.degrees_of_freedom},
               {"iterations", fit.iterations},
-              {"model", "ballistic + constant-spin"},
+              {"model", std::string("ballistic + ") + RotationModelName(s.rotation_model)},
               {"t0_s", fit.parameters.t0_s},
               {"solve_s", fit.solve_seconds},
               {"termination", fit.termination}};
@@ -163,11 +220,11 @@ void WriteFramesCsv(const FitResult& fit, const FlightSummary& s,
 
 void WriteResidualsCsv(const FitResult& fit, const std::filesystem::path& path) {
   WriteFileAtomically(path, [&](std::ostream& out) {
-    out << "frame,time_s,marker,x_px,y_px,residual_x_px,residual_y_px,outlier\n";
+    out << "frame,time_s,marker,x_px,y_px,residual_x_px,residual_y_px,outlier,camera\n";
     for (const ResidualRecord& r : fit.residuals) {
-      out << fmt::format("{},{:.9g},{},{:.6f},{:.6f},{:.6f},{:.6f},{}\n", r.frame, r.time_s,
+      out << fmt::format("{},{:.9g},{},{:.6f},{:.6f},{:.6f},{:.6f},{},{}\n", r.frame, r.time_s,
                          r.marker_id, r.observed_px.x(), r.observed_px.y(), r.residual_px.x(),
-                         r.residual_px.y(), r.outlier ? 1 : 0);
+                         r.residual_px.y(), r.outlier ? 1 : 0, r.camera);
     }
   });
 }
@@ -205,6 +262,45 @@ std::string SummaryText(const FitResult& fit, const FlightSummary& s) {
                      s.launch_sigma_speed_mps, s.launch_angle_deg, s.launch_sigma_angle_deg);
   out << fmt::format("Spin: {:.4f} +/- {:.4f} rev/s ({:.1f} rpm)\n", s.rate_rev_per_s,
                      s.sigma_rate_rev_per_s, 60.0 * s.rate_rev_per_s);
+  out << fmt::format("Rotation model: {} ({})\n", RotationModelName(s.rotation_model),
+                     s.rotation_reason);
+  if (s.inertia_ratios) {
+    out << fmt::format("Principal moments: I1/I3 = {:.4f}{}, I2/I3 = {:.4f}{}{}\n",
+                       (*s.inertia_ratios)[0],
+                       s.inertia_sigma_ratios ? fmt::format(" +/- {:.4f}", (*s.inertia_sigma_ratios)[0]) : "",
+                       (*s.inertia_ratios)[1],
+                       s.inertia_sigma_ratios ? fmt::format(" +/- {:.4f}", (*s.inertia_sigma_ratios)[1]) : "",
+                       s.inertia_held ? " (held from the parts list)" : "");
+    for (int k = 0; k < 3; ++k) {
+      if (!s.inertia_axes_body[k]) continue;
+      const Eigen::Vector3d& a = *s.inertia_axes_body[k];
+      out << fmt::format("  axis {} in the body: [{:.4f}, {:.4f}, {:.4f}]{}\n", k + 1, a.x(), a.y(),
+                         a.z(),
+                         s.inertia_sigma_axes_deg[k]
+                             ? fmt::format(" +/- {:.3f} deg", *s.inertia_sigma_axes_deg[k])
+                             : "");
+    }
+  }
+  if (!s.flip_times_s.empty()) {
+    out << "Flips at t =";
+    for (double t : s.flip_times_s) out << fmt::format(" {:.4f}", t);
+    out << " s\n";
+  }
+  out << fmt::format("Energy at launch: translational {:.3f} J/kg", s.translational_energy_per_mass_jpkg);
+  if (s.rotational_energy_per_mass_jpkg) {
+    out << fmt::format(", rotational {:.3f} J/kg (parts-list inertia)", *s.rotational_energy_per_mass_jpkg);
+  }
+  out << "\n";
+  if (s.rms_px_per_camera.size() > 1) {
+    for (size_t k = 0; k < s.rms_px_per_camera.size(); ++k) {
+      out << fmt::format("Camera {}: rms {:.3f} px, clock offset {:.3f} ms", k,
+                         s.rms_px_per_camera[k], 1e3 * s.time_offsets_s[k]);
+      if (s.sigma_time_offsets_s[k] > 0) {
+        out << fmt::format(" +/- {:.4f} ms", 1e3 * s.sigma_time_offsets_s[k]);
+      }
+      out << "\n";
+    }
+  }
   for (const std::string& w : fit.warnings) out << "warning: " << w << "\n";
   return out.str();
 }
