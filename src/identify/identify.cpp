@@ -131,26 +131,25 @@ double ScoreAssignment(const std::map<int, int>& marker_of_track, const std::map
   return rms[rms.size() / 2];
 }
 
-}  // namespace
 
-IdentifyReport IdentifyTracks(std::vector<TrackPoint>* points, const Body& body,
-                              const Camera& camera, const IdentifyOptions& options) {
-  IdentifyReport report;
-  std::map<int, Pixels> tracks;
-  std::map<int, std::vector<int>> tracks_in_frame;
-  for (const TrackPoint& p : *points) {
-    tracks[p.track][p.frame] = {p.x_px, p.y_px};
-    tracks_in_frame[p.frame].push_back(p.track);
-  }
-  const int n_markers = static_cast<int>(body.markers.size());
-  if (n_markers < 4) {
-    throw DataError(fmt::format("the body has {} markers; identification and the fit need at "
-                                "least 4", n_markers));
-  }
-  const PoseSolver solver(body, camera);
+// Steps 1-3 of identification on a set of tracks: the anchor frame, every injective
+// assignment of its tracks to the markers in `ids` scored over verification frames, and
+// the ambiguity test. `why` says what failed when `marker_of_track` is empty.
+struct AnchorResult {
+  std::map<int, int> marker_of_track;
+  double best_rms_px = 0.0;
+  double runner_up_rms_px = 0.0;
+  std::string why;
+};
 
+AnchorResult AssignAnchor(const std::map<int, Pixels>& tracks,
+                          const std::map<int, std::vector<int>>& tracks_in_frame,
+                          const std::vector<int>& ids, const PoseSolver& solver,
+                          const IdentifyOptions& options) {
+  AnchorResult out;
+  const int n_markers = static_cast<int>(ids.size());
   // 1. The anchor frame: the most tracks present, then the longest-lived ones.
-  auto life = [&](int track) { return static_cast<int>(tracks[track].size()); };
+  auto life = [&](int track) { return static_cast<int>(tracks.at(track).size()); };
   int anchor_frame = -1;
   long best_key = -1;
   for (const auto& [frame, present] : tracks_in_frame) {
@@ -164,10 +163,11 @@ IdentifyReport IdentifyTracks(std::vector<TrackPoint>* points, const Body& body,
     }
   }
   if (anchor_frame < 0) {
-    throw DataError("no frame shows 4 or more marker tracks at once: the markers cannot be "
-                    "identified (are the markers found? see the detection settings)");
+    out.why = "no frame shows 4 or more marker tracks at once: the markers cannot be "
+              "identified (are the markers found? see the detection settings)";
+    return out;
   }
-  std::vector<int> anchor_tracks = tracks_in_frame[anchor_frame];
+  std::vector<int> anchor_tracks = tracks_in_frame.at(anchor_frame);
   std::sort(anchor_tracks.begin(), anchor_tracks.end(),
             [&](int a, int b) { return life(a) > life(b); });
   anchor_tracks.resize(std::min<size_t>(anchor_tracks.size(),
@@ -177,7 +177,7 @@ IdentifyReport IdentifyTracks(std::vector<TrackPoint>* points, const Body& body,
   std::vector<int> shared;
   for (const auto& [frame, present] : tracks_in_frame) {
     int n = 0;
-    for (int t : anchor_tracks) n += tracks[t].count(frame);
+    for (int t : anchor_tracks) n += tracks.at(t).count(frame);
     if (n >= 4) shared.push_back(frame);
   }
   std::vector<int> verification = {anchor_frame};
@@ -187,10 +187,8 @@ IdentifyReport IdentifyTracks(std::vector<TrackPoint>* points, const Body& body,
   }
 
   // 2. Every injective assignment of the anchor tracks to markers.
-  std::vector<int> ids;
-  for (const Marker& m : body.markers) ids.push_back(m.id);
   std::vector<Eigen::Vector2d> anchor_px;
-  for (int t : anchor_tracks) anchor_px.push_back(tracks[t][anchor_frame]);
+  for (int t : anchor_tracks) anchor_px.push_back(tracks.at(t).at(anchor_frame));
   const int k = static_cast<int>(anchor_tracks.size());
   struct Candidate {
     std::vector<int> markers;
@@ -215,11 +213,12 @@ IdentifyReport IdentifyTracks(std::vector<TrackPoint>* points, const Body& body,
   };
   enumerate(0);
   if (candidates.empty()) {
-    throw DataError(fmt::format(
+    out.why = fmt::format(
         "no assignment of the {} tracks seen in frame {} to the body's {} markers fits a rigid "
         "pose within {:.1f} px: check the marker positions in the body file and the camera "
         "calibration",
-        k, anchor_frame, n_markers, options.accept_rms_px));
+        k, anchor_frame, n_markers, options.accept_rms_px);
+    return out;
   }
   for (Candidate& c : candidates) {
     std::map<int, int> m;
@@ -230,15 +229,16 @@ IdentifyReport IdentifyTracks(std::vector<TrackPoint>* points, const Body& body,
             [](const Candidate& a, const Candidate& b) { return a.score < b.score; });
   const Candidate& best = candidates.front();
   if (!std::isfinite(best.score)) {
-    throw DataError("no assignment of tracks to markers holds over the frames: the tracks do "
-                    "not move like one rigid body with the body file's layout");
+    out.why = "no assignment of tracks to markers holds over the frames: the tracks do not "
+              "move like one rigid body with the body file's layout";
+    return out;
   }
-  report.anchor_rms_px = best.score;
+  out.best_rms_px = best.score;
 
   // 3. Ambiguity: a different assignment nearly as good.
   if (candidates.size() > 1 && std::isfinite(candidates[1].score)) {
     const Candidate& second = candidates[1];
-    report.runner_up_rms_px = second.score;
+    out.runner_up_rms_px = second.score;
     if (second.score < 3.0 * best.score + 0.5) {
       std::vector<std::string> swaps;
       for (int i = 0; i < k; ++i) {
@@ -248,27 +248,41 @@ IdentifyReport IdentifyTracks(std::vector<TrackPoint>* points, const Body& body,
       }
       std::string list;
       for (size_t i = 0; i < swaps.size(); ++i) list += (i ? "; " : "") + swaps[i];
-      throw DataError(fmt::format(
+      out.why = fmt::format(
           "the marker layout is ambiguous in these views: two assignments of tracks to markers "
           "fit equally well ({:.2f} px and {:.2f} px rms), so these markers cannot be told "
           "apart: {}. Make the layout asymmetric (move or add a marker so that no rotation "
           "maps the layout onto itself) and film again",
-          best.score, second.score, list));
+          best.score, second.score, list);
+      return out;
     }
   }
-  for (int i = 0; i < k; ++i) report.marker_of_track[anchor_tracks[i]] = best.markers[i];
+  for (int i = 0; i < k; ++i) out.marker_of_track[anchor_tracks[i]] = best.markers[i];
+  return out;
+}
 
-  // 4. Growth: label further tracks from the poses of frames with enough identified markers.
+// Labels further tracks from the poses of frames with enough identified markers (step 4).
+void GrowLabels(const std::map<int, Pixels>& tracks,
+                const std::map<int, std::vector<int>>& tracks_in_frame, const std::vector<int>& ids,
+                const PoseSolver& solver, const IdentifyOptions& options, IdentifyReport* report);
+
+}  // namespace
+
+namespace {
+
+void GrowLabels(const std::map<int, Pixels>& tracks,
+                const std::map<int, std::vector<int>>& tracks_in_frame, const std::vector<int>& ids,
+                const PoseSolver& solver, const IdentifyOptions& options, IdentifyReport* report) {
   for (int round = 0; round < 5; ++round) {
     std::map<int, PoseFit> poses;
     for (const auto& [frame, present] : tracks_in_frame) {
       std::vector<int> m;
       std::vector<Eigen::Vector2d> px;
       for (int t : present) {
-        const auto it = report.marker_of_track.find(t);
-        if (it == report.marker_of_track.end()) continue;
+        const auto it = report->marker_of_track.find(t);
+        if (it == report->marker_of_track.end()) continue;
         m.push_back(it->second);
-        px.push_back(tracks[t][frame]);
+        px.push_back(tracks.at(t).at(frame));
       }
       if (static_cast<int>(m.size()) < options.min_markers) continue;
       PoseFit fit = solver.Solve(m, px);
@@ -276,7 +290,7 @@ IdentifyReport IdentifyTracks(std::vector<TrackPoint>* points, const Body& body,
     }
     bool grew = false;
     for (const auto& [track, pixels] : tracks) {
-      if (report.marker_of_track.count(track)) continue;
+      if (report->marker_of_track.count(track)) continue;
       // Median distance to each marker's projection over the frames with a pose.
       std::vector<std::pair<double, int>> by_marker;
       for (int id : ids) {
@@ -296,15 +310,71 @@ IdentifyReport IdentifyTracks(std::vector<TrackPoint>* points, const Body& body,
       if (distance > options.label_distance_px || !clear) continue;
       // The marker must not already be taken by a track alive at the same time.
       bool overlaps = false;
-      for (const auto& [other, marker] : report.marker_of_track) {
+      for (const auto& [other, marker] : report->marker_of_track) {
         if (marker != id) continue;
-        for (const auto& [frame, px] : pixels) overlaps |= tracks[other].count(frame) > 0;
+        for (const auto& [frame, px] : pixels) overlaps |= tracks.at(other).count(frame) > 0;
       }
       if (overlaps) continue;
-      report.marker_of_track[track] = id;
+      report->marker_of_track[track] = id;
       grew = true;
     }
     if (!grew) break;
+  }
+
+}
+
+}  // namespace
+
+IdentifyReport IdentifyTracks(std::vector<TrackPoint>* points, const Body& body,
+                              const Camera& camera, const IdentifyOptions& options) {
+  IdentifyReport report;
+  std::map<int, Pixels> tracks;
+  std::map<int, std::vector<int>> tracks_in_frame;
+  for (const TrackPoint& p : *points) {
+    tracks[p.track][p.frame] = {p.x_px, p.y_px};
+    tracks_in_frame[p.frame].push_back(p.track);
+  }
+  const int n_markers = static_cast<int>(body.markers.size());
+  if (n_markers < 4) {
+    throw DataError(fmt::format("the body has {} markers; identification and the fit need at "
+                                "least 4", n_markers));
+  }
+  const PoseSolver solver(body, camera);
+  std::vector<int> ids;
+  for (const Marker& m : body.markers) ids.push_back(m.id);
+
+  const AnchorResult anchor = AssignAnchor(tracks, tracks_in_frame, ids, solver, options);
+  if (anchor.marker_of_track.empty()) throw DataError(anchor.why);
+  report.anchor_rms_px = anchor.best_rms_px;
+  report.runner_up_rms_px = anchor.runner_up_rms_px;
+  report.marker_of_track = anchor.marker_of_track;
+  GrowLabels(tracks, tracks_in_frame, ids, solver, options, &report);
+
+  // 5. Markers that turned away and came back (a tumble, the other face of the body) start
+  // new tracks that may never share a frame with identified ones: the tracks still
+  // unlabelled are identified again from their own anchor frame, as at the start, accepted
+  // only when unambiguous and when no marker would be seen twice in one frame; then grown.
+  for (int round = 0; round < 8; ++round) {
+    std::map<int, Pixels> rest;
+    std::map<int, std::vector<int>> rest_in_frame;
+    for (const auto& [track, pixels] : tracks) {
+      if (report.marker_of_track.count(track) || pixels.size() < 5) continue;
+      rest[track] = pixels;
+      for (const auto& [frame, px] : pixels) rest_in_frame[frame].push_back(track);
+    }
+    if (rest.size() < 4) break;
+    const AnchorResult again = AssignAnchor(rest, rest_in_frame, ids, solver, options);
+    if (again.marker_of_track.empty()) break;
+    bool clash = false;
+    for (const auto& [track, marker] : again.marker_of_track) {
+      for (const auto& [other, other_marker] : report.marker_of_track) {
+        if (other_marker != marker) continue;
+        for (const auto& [frame, px] : tracks.at(track)) clash |= tracks.at(other).count(frame) > 0;
+      }
+    }
+    if (clash) break;
+    for (const auto& [track, marker] : again.marker_of_track) report.marker_of_track[track] = marker;
+    GrowLabels(tracks, tracks_in_frame, ids, solver, options, &report);
   }
 
   for (const auto& [track, pixels] : tracks) {
