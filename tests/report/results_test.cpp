@@ -110,7 +110,8 @@ bool NameCarriesUnit(const std::string& name) {
                                                          "_radps", "_px",  "_deg",  "_kg",
                                                          "_rev_per_s", "_per_m"};
   static const std::vector<std::string> kDimensionless = {"frame", "marker", "markers", "track",
-                                                          "outlier", "q_w", "q_x", "q_y", "q_z"};
+                                                          "outlier", "camera", "q_w", "q_x", "q_y",
+                                                          "q_z"};
   for (const std::string& suffix : kUnitSuffixes) {
     if (name.size() > suffix.size() && name.ends_with(suffix)) return true;
   }
