@@ -281,6 +281,11 @@ std::string SummaryText(const FitResult& fit, const FlightSummary& s) {
                              : "");
     }
   }
+  {
+    const Eigen::Vector3d& l = s.angular_momentum_world_unit;
+    out << fmt::format("Angular momentum along [{:.4f}, {:.4f}, {:.4f}] (world) +/- {:.3f} deg\n",
+                       l.x(), l.y(), l.z(), s.sigma_angular_momentum_deg);
+  }
   if (!s.flip_times_s.empty()) {
     out << "Flips at t =";
     for (double t : s.flip_times_s) out << fmt::format(" {:.4f}", t);
