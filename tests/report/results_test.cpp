@@ -15,6 +15,7 @@
 
 #include "support/fit_helpers.hpp"
 #include "support/scenarios.hpp"
+#include "support/tumble_scenarios.hpp"
 
 namespace tumbletrace {
 namespace {
@@ -346,6 +347,53 @@ TEST_F(ResultsFilesTest, SummaryTextNamesTheUndeterminedAxisAndUnits) {
   EXPECT_NE(text.find("mm"), std::string::npos) << text;
   EXPECT_NE(text.find("m/s"), std::string::npos) << text;
   EXPECT_NE(text.find("rev/s"), std::string::npos) << text;
+}
+
+}  // namespace
+}  // namespace tumbletrace
+
+namespace tumbletrace {
+namespace {
+
+// A tumbling body's results carry the rotation model with its reason and BIC trials, the
+// moment ratios and principal axes (the contract's shapes), the angular momentum, the
+// flips, the energy and the per-camera figures.
+TEST(ResultsJsonTumble, RotationInertiaEnergyAndCameraKeys) {
+  const Scenario s = testing::FlipScenario();
+  const testing::Recovery r = testing::SimulateAndFit(s, testing::DefaultFitOptions(s));
+  const nlohmann::json j = ResultsJson(r.fit, r.summary, Provenance{});
+  const nlohmann::json& rotation = j.at("rotation");
+  EXPECT_EQ(rotation.at("model"), "free");
+  EXPECT_EQ(rotation.at("criterion"), "BIC");
+  EXPECT_NE(rotation.at("reason").get<std::string>().find("Bayesian information criterion"),
+            std::string::npos);
+  ASSERT_GE(rotation.at("models_tried").size(), 2u);
+  for (const auto& trial : rotation["models_tried"]) EXPECT_TRUE(trial.at("bic").is_number());
+  ASSERT_EQ(rotation.at("angular_momentum_world_unit").size(), 3u);
+  ASSERT_TRUE(rotation.at("flip_times_s").is_array());
+  EXPECT_GE(rotation["flip_times_s"].size(), 1u);
+
+  const nlohmann::json& inertia = j.at("inertia");
+  ASSERT_EQ(inertia.at("ratios").size(), 2u);
+  const double r1 = inertia["ratios"][0], r2 = inertia["ratios"][1];
+  EXPECT_GT(r1, 0.0);
+  EXPECT_LE(r1, r2);  // I1 <= I2 <= I3
+  EXPECT_LE(r2, 1.0);
+  ASSERT_EQ(inertia.at("sigma_ratios").size(), 2u);
+  ASSERT_EQ(inertia.at("axes_body").size(), 3u);
+  Eigen::Matrix3d axes;
+  for (int row = 0; row < 3; ++row) {
+    for (int k = 0; k < 3; ++k) axes(row, k) = inertia["axes_body"][row][k].get<double>();
+  }
+  EXPECT_TRUE((axes.transpose() * axes).isIdentity(1e-9));  // orthonormal columns
+  EXPECT_FALSE(inertia.at("held_from_parts").get<bool>());
+
+  const nlohmann::json& energy = j.at("energy");
+  EXPECT_GT(energy.at("translational_per_mass_jpkg").get<double>(), 0.0);
+  EXPECT_TRUE(energy.at("rotational_per_mass_jpkg").is_number());  // the paddle has parts
+  ASSERT_EQ(j.at("cameras").size(), 1u);
+  EXPECT_NEAR(j["cameras"][0].at("rms_px").get<double>(), 0.2, 0.03);
+  EXPECT_EQ(j.at("fit").at("model"), "ballistic + free");
 }
 
 }  // namespace
