@@ -253,13 +253,23 @@ FlightSummary Summarise(const FitResult& fit, const Body& body) {
   }
 
   // Energy at launch.
+  // The rotational part needs the inertia per unit mass, which only the parts list gives
+  // (the flight fixes its ratios, not its scale); the joules need a mass: the weighed one
+  // (`mass_kg` in the body file) or else the parts list's.
   s.translational_energy_per_mass_jpkg = 0.5 * s.launch_velocity_mps.squaredNorm();
+  std::optional<double> mass_kg = body.mass_kg;
   if (!body.parts.empty()) {
     const MassProperties design = CombineParts(body.parts);
-    const double rotational_j = 0.5 * s.omega_body_radps.dot(design.inertia_about_cm_kgm2 * s.omega_body_radps);
-    s.rotational_energy_per_mass_jpkg = rotational_j / design.mass_kg;
-    s.rotational_energy_j = rotational_j;
-    s.translational_energy_j = design.mass_kg * s.translational_energy_per_mass_jpkg;
+    s.rotational_energy_per_mass_jpkg =
+        0.5 * s.omega_body_radps.dot(design.inertia_about_cm_kgm2 * s.omega_body_radps) /
+        design.mass_kg;
+    if (!mass_kg) mass_kg = design.mass_kg;
+  }
+  if (mass_kg) {
+    s.translational_energy_j = *mass_kg * s.translational_energy_per_mass_jpkg;
+    if (s.rotational_energy_per_mass_jpkg) {
+      s.rotational_energy_j = *mass_kg * *s.rotational_energy_per_mass_jpkg;
+    }
   }
 
   s.time_offsets_s = fit.time_offsets_s;

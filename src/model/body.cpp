@@ -191,6 +191,8 @@ Body ReadBodyYaml(const std::filesystem::path& path) {
   if (map.Has("parts")) {
     for (YamlMap& part_map : map.MapList("parts")) body.parts.push_back(ReadPart(part_map, units));
   }
+  body.mass_kg = map.OptionalNumber("mass_kg", "the body's weighed mass, kg (positive)");
+  if (body.mass_kg && !(*body.mass_kg > 0)) map.Fail("mass_kg", "a positive mass in kg");
   map.Finish();
   return body;
 }
@@ -198,6 +200,7 @@ Body ReadBodyYaml(const std::filesystem::path& path) {
 void WriteBodyYaml(const Body& body, const std::filesystem::path& path) {
   WriteFileAtomically(path, [&](std::ostream& out) {
     out << "units: mm\n";
+    if (body.mass_kg) out << fmt::format("mass_kg: {}\n", *body.mass_kg);
     out << "markers:\n";
     for (const Marker& marker : body.markers) {
       out << fmt::format("  - {{id: {}, at: {}, diameter: {}", marker.id, Mm(marker.at_body_m),

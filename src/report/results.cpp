@@ -145,7 +145,10 @@ json ResultsJson(const FitResult& fit, const FlightSummary& s, const Provenance&
                  {"rotational_per_mass_jpkg", Maybe(s.rotational_energy_per_mass_jpkg)},
                  {"translational_j", Maybe(s.translational_energy_j)},
                  {"rotational_j", Maybe(s.rotational_energy_j)},
-                 {"rotational_source", s.rotational_energy_j ? "parts list inertia" : "none: the flight gives the inertia's ratios, not its scale; add a parts list"}};
+                 {"rotational_source", s.rotational_energy_per_mass_jpkg
+                                           ? "parts list inertia per unit mass"
+                                           : "none: the flight gives the inertia's ratios, not "
+                                             "its scale; add a parts list"}};
   {
     json cameras = json::array();
     for (size_t k = 0; k < s.rms_px_per_camera.size(); ++k) {

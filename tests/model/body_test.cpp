@@ -247,3 +247,22 @@ TEST_F(BodyFileTest, MissingFileNamesThePath) {
 
 }  // namespace
 }  // namespace tumbletrace
+
+namespace tumbletrace {
+namespace {
+
+TEST_F(BodyFileTest, WeighedMassIsReadWrittenAndMustBePositive) {
+  const fs::path path = Write("units: mm\nmass_kg: 0.62\nmarkers: [{id: 1, at: [0, 0, 0]}]\n");
+  const Body body = ReadBodyYaml(path);
+  ASSERT_TRUE(body.mass_kg.has_value());
+  EXPECT_DOUBLE_EQ(*body.mass_kg, 0.62);
+  WriteBodyYaml(body, folder_ / "again.yaml");
+  EXPECT_DOUBLE_EQ(ReadBodyYaml(folder_ / "again.yaml").mass_kg.value_or(0), 0.62);
+  EXPECT_FALSE(ReadBodyYaml(Write("units: mm\nmarkers: [{id: 1, at: [0, 0, 0]}]\n")).mass_kg);
+  EXPECT_NE(ErrorReading("units: mm\nmass_kg: -1\nmarkers: [{id: 1, at: [0, 0, 0]}]\n")
+                .find("key 'mass_kg'"),
+            std::string::npos);
+}
+
+}  // namespace
+}  // namespace tumbletrace

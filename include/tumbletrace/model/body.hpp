@@ -43,6 +43,8 @@ struct Body {
   std::vector<Marker> markers;
   std::map<std::string, Eigen::Vector3d> references_body_m;
   std::vector<Part> parts;
+  // The weighed mass (`mass_kg`), when the user gives it: energies in joules.
+  std::optional<double> mass_kg;
 
   const Marker* FindMarker(int id) const;
 };
