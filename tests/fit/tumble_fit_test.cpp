@@ -79,5 +79,31 @@ TEST(TumbleFit, FlipsNearTheIntermediateAxis) {
   for (double t : r.summary.flip_times_s) std::printf("flip at %.4f s\n", t);
 }
 
+TEST(TumbleFit, SymmetricBodyIsFittedAsASymmetricTop) {
+  const Scenario scenario = testing::SymmetricBarScenario();
+  const testing::Recovery r = testing::SimulateAndFit(scenario, testing::DefaultFitOptions(scenario));
+  const FlightSummary& s = r.summary;
+  std::printf("%s\n", s.rotation_reason.c_str());
+  EXPECT_EQ(s.rotation_model, RotationModel::kSymmetricTop);
+  for (int i = 0; i < 3; ++i) {
+    ASSERT_TRUE(s.cm_body_m[i].has_value());
+    const double error = *s.cm_body_m[i] - r.sim.mass.cm_body_m[i];
+    std::printf("cm[%d] error %+.3f mm, sigma %.3f mm\n", i, 1e3 * error, 1e3 * *s.cm_sigma_m[i]);
+    EXPECT_LT(std::abs(error), 3 * *s.cm_sigma_m[i]);
+  }
+  // The symmetry axis (the bar's length, the smallest moment) is reported; the two equal
+  // transverse axes are not.
+  ASSERT_TRUE(s.inertia_ratios.has_value());
+  ASSERT_TRUE(s.inertia_axes_body[0].has_value());
+  EXPECT_FALSE(s.inertia_axes_body[1].has_value());
+  EXPECT_FALSE(s.inertia_axes_body[2].has_value());
+  EXPECT_GT(std::abs(s.inertia_axes_body[0]->x()), std::cos(M_PI / 180));
+  const Eigen::Vector3d m = Principal(r.sim.mass.inertia_about_cm_kgm2).moments_kgm2;
+  std::printf("I1/I3 %.4f (truth %.4f), I2/I3 %.4f\n", (*s.inertia_ratios)[0], m[0] / m[2],
+              (*s.inertia_ratios)[1]);
+  EXPECT_LT(std::abs((*s.inertia_ratios)[0] / (m[0] / m[2]) - 1), 0.02);
+  EXPECT_DOUBLE_EQ((*s.inertia_ratios)[1], 1.0);
+}
+
 }  // namespace
 }  // namespace tumbletrace

@@ -90,4 +90,32 @@ inline Scenario FlipScenario(double tracks_sigma_px = 0.2, std::uint64_t seed = 
   return PaddleScenario({0.8, 2 * M_PI * 4.0, 0.8}, tracks_sigma_px, seed);
 }
 
+// (c) A symmetric body: a square bar, 280 x 60 x 60 mm (two equal principal moments about
+// its cross axes), with eight markers seen from every side (small spheres), spinning about
+// its long axis at 5 rev/s and coning (a transverse 5 rad/s): a precessing symmetric top.
+inline Scenario SymmetricBarScenario(double tracks_sigma_px = 0.2, std::uint64_t seed = 1) {
+  Scenario s = PaddleScenario({2 * M_PI * 5.0, 5.0, 1.0}, tracks_sigma_px, seed);
+  const double mm = 1e-3;
+  Body body;
+  const Eigen::Vector3d at_mm[] = {{10, 30, 20},  {80, -30, -10}, {150, 20, 30},  {220, -10, -30},
+                                   {270, 30, -20}, {40, -20, 30},  {190, 30, 10},  {120, 10, -30}};
+  int id = 1;
+  for (const auto& p : at_mm) {
+    Marker m;
+    m.id = id++;
+    m.at_body_m = p * mm;
+    m.diameter_m = 8 * mm;
+    body.markers.push_back(m);
+  }
+  Part bar;
+  bar.shape = PartShape::kBox;
+  bar.name = "bar";
+  bar.center_body_m = Eigen::Vector3d(140 * mm, 0, 0);
+  bar.size_m = Eigen::Vector3d(280 * mm, 60 * mm, 60 * mm);
+  bar.density_kgpm3 = 600;
+  body.parts = {bar};
+  s.body = body;
+  return s;
+}
+
 }  // namespace tumbletrace::testing
