@@ -220,8 +220,7 @@ std::vector<Eigen::Vector2d> Residuals(const FitContext& ctx, const FlightParame
   const size_t n = ctx.sightings.size();
   std::vector<double> times(n);
   for (size_t i = 0; i < n; ++i) {
-    const int k = ctx.sightings[i].camera;
-    times[i] = ctx.sightings[i].time_s + (k < static_cast<int>(p.time_offsets_s.size()) ? p.time_offsets_s[k] : 0.0);
+    times[i] = ctx.sightings[i].time_s + p.TimeOffsetS(ctx.sightings[i].camera);
   }
   std::vector<Eigen::Matrix3d> rotations;
   p.RotationAt(times, &rotations, nullptr);
@@ -688,6 +687,7 @@ FitResult FitFreeFlight(const std::vector<FrameSightings>& frames, const Body& b
   // Whether the data determine the principal axes and moments of a torque-free model:
   // not when the body spun about a principal axis (then the constant-spin model says the
   // same with fewer parameters, and a fit asked to estimate them has nothing to go on).
+  result.inertia_held = chosen.model != RotationModel::kConstantSpin && options.held_inertia;
   if (chosen.model != RotationModel::kConstantSpin && !options.held_inertia) {
     const int first = ColumnOf(mp, blocks.principal);
     const int size = (chosen.model == RotationModel::kSymmetricTop) ? 3 : 5;

@@ -217,12 +217,12 @@ FlightSummary Summarise(const FitResult& fit, const Body& body) {
     });
     s.sigma_angular_momentum_deg = std::sqrt(std::max(cov_l.trace(), 0.0)) * 180.0 / M_PI;
   }
-  const bool inertia_known = fit.inertia_determined || fit.covariance.block<2, 2>(kMoments, kMoments).trace() == 0.0;
-  if (p.rotation_model != RotationModel::kConstantSpin && inertia_known) {
+  if (p.rotation_model != RotationModel::kConstantSpin &&
+      (fit.inertia_held || fit.inertia_determined)) {
     const PrincipalAxes principal = SortedPrincipal(p);
     const Eigen::Vector3d& m = principal.moments_kgm2;
     s.inertia_ratios = Eigen::Vector2d(m[0] / m[2], m[1] / m[2]);
-    s.inertia_held = cov.block<2, 2>(kMoments, kMoments).trace() == 0.0;
+    s.inertia_held = fit.inertia_held;
     if (!s.inertia_held) {
       const Eigen::MatrixXd cov_ratios = Propagate(p, cov, [](const FlightParameters& q) {
         const Eigen::Vector3d mq = SortedPrincipal(q).moments_kgm2;

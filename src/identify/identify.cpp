@@ -264,14 +264,6 @@ AnchorResult AssignAnchor(const std::map<int, Pixels>& tracks,
 // Labels further tracks from the poses of frames with enough identified markers (step 4).
 void GrowLabels(const std::map<int, Pixels>& tracks,
                 const std::map<int, std::vector<int>>& tracks_in_frame, const std::vector<int>& ids,
-                const PoseSolver& solver, const IdentifyOptions& options, IdentifyReport* report);
-
-}  // namespace
-
-namespace {
-
-void GrowLabels(const std::map<int, Pixels>& tracks,
-                const std::map<int, std::vector<int>>& tracks_in_frame, const std::vector<int>& ids,
                 const PoseSolver& solver, const IdentifyOptions& options, IdentifyReport* report) {
   for (int round = 0; round < 5; ++round) {
     std::map<int, PoseFit> poses;

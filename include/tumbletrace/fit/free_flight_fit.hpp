@@ -92,6 +92,10 @@ struct FlightParameters {
   std::vector<double> time_offsets_s;
   double max_step_angle_rad = kTorqueFreeMaxStepAngleRad;  // integrator step bound
 
+  // Camera k's clock offset (0 for a camera the list does not reach), s.
+  double TimeOffsetS(int camera) const {
+    return camera < static_cast<int>(time_offsets_s.size()) ? time_offsets_s[camera] : 0.0;
+  }
   Eigen::Vector3d Moments() const { return {moments_sd[0] - moments_sd[1], moments_sd[0] + moments_sd[1], 1.0}; }
   Eigen::Matrix3d BodyFromPrincipal() const;
   Eigen::Vector3d PositionAt(double t_s) const;
@@ -158,7 +162,9 @@ struct FitResult {
     bool converged = false;
   };
   std::vector<ModelTrial> model_trials;  // empty when one model was asked for
-  // Torque-free models: whether the data determine the principal axes and moments.
+  // Torque-free models: whether the principal axes and moments were held (from the parts
+  // list) and, when estimated, whether the data determine them.
+  bool inertia_held = false;
   bool inertia_determined = false;
   std::string model_reason;             // why this model, in words
   CmObservability cm;
