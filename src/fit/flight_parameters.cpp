@@ -1,5 +1,6 @@
 #include <Eigen/Geometry>
 
+#include "tumbletrace/fit/aero.hpp"
 #include "tumbletrace/fit/flight_model.hpp"
 #include "tumbletrace/fit/free_flight_fit.hpp"
 #include "tumbletrace/fit/torque_free.hpp"
@@ -11,6 +12,15 @@ const char* RotationModelName(RotationModel model) {
     case RotationModel::kConstantSpin: return "constant-spin";
     case RotationModel::kSymmetricTop: return "symmetric";
     case RotationModel::kFreeTop: return "free";
+  }
+  return "unknown";
+}
+
+const char* TranslationModelName(TranslationModel model) {
+  switch (model) {
+    case TranslationModel::kVacuum: return "none";
+    case TranslationModel::kDrag: return "quadratic";
+    case TranslationModel::kDragLift: return "quadratic+lift";
   }
   return "unknown";
 }
@@ -27,18 +37,53 @@ Eigen::Matrix3d FlightParameters::BodyFromPrincipal() const {
   return ToQuaternion(body_from_principal_wxyz).toRotationMatrix();
 }
 
+void FlightParameters::TranslationAt(const std::vector<double>& t_s,
+                                     std::vector<Eigen::Vector3d>* positions_m,
+                                     std::vector<Eigen::Vector3d>* velocities_mps) const {
+  const size_t n = t_s.size();
+  if (positions_m) positions_m->resize(n);
+  if (velocities_mps) velocities_mps->resize(n);
+  if (translation_model == TranslationModel::kVacuum) {
+    for (size_t i = 0; i < n; ++i) {
+      if (positions_m) {
+        BallisticTranslation::Position(r0_world_m.data(), v0_world_mps.data(),
+                                       g_world_mps2.data(), t_s[i] - t0_s, (*positions_m)[i].data());
+      }
+      if (velocities_mps) {
+        BallisticTranslation::Velocity(v0_world_mps.data(), g_world_mps2.data(), t_s[i] - t0_s,
+                                       (*velocities_mps)[i].data());
+      }
+    }
+    return;
+  }
+  AeroInputs<double> in;
+  for (int i = 0; i < 3; ++i) {
+    in.v0[i] = v0_world_mps[i];
+    in.g[i] = g_world_mps2[i];
+    in.w[i] = omega_world_radps[i];
+    in.wind[i] = wind_world_mps[i];
+  }
+  in.k = aero[0];
+  in.k_lift = translation_model == TranslationModel::kDragLift ? aero[1] : 0.0;
+  std::vector<double> taus(n);
+  for (size_t i = 0; i < n; ++i) taus[i] = t_s[i] - t0_s;
+  const std::vector<AeroState<double>> states = PropagateAero(in, taus);
+  for (size_t i = 0; i < n; ++i) {
+    if (positions_m) (*positions_m)[i] = r0_world_m + Eigen::Vector3d(states[i].dr);
+    if (velocities_mps) (*velocities_mps)[i] = Eigen::Vector3d(states[i].v);
+  }
+}
+
 Eigen::Vector3d FlightParameters::PositionAt(double t_s) const {
-  Eigen::Vector3d r;
-  BallisticTranslation::Position(r0_world_m.data(), v0_world_mps.data(), g_world_mps2.data(),
-                                 t_s - t0_s, r.data());
-  return r;
+  std::vector<Eigen::Vector3d> r;
+  TranslationAt({t_s}, &r, nullptr);
+  return r[0];
 }
 
 Eigen::Vector3d FlightParameters::VelocityAt(double t_s) const {
-  Eigen::Vector3d v;
-  BallisticTranslation::Velocity(v0_world_mps.data(), g_world_mps2.data(), t_s - t0_s,
-                                 v.data());
-  return v;
+  std::vector<Eigen::Vector3d> v;
+  TranslationAt({t_s}, nullptr, &v);
+  return v[0];
 }
 
 void FlightParameters::RotationAt(const std::vector<double>& t_s,

@@ -5,6 +5,7 @@
 
 #include <Eigen/Dense>
 #include <algorithm>
+#include <array>
 #include <chrono>
 #include <cmath>
 #include <limits>
@@ -67,6 +68,7 @@ struct ParameterBlocks {
     std::copy_n(p.cm_body_m.data(), 3, c);
     std::copy_n(p.body_from_principal_wxyz.data(), 4, principal);
     std::copy_n(p.moments_sd.data(), 2, sd);
+    std::copy_n(p.aero.data(), 2, aero);
     for (int k = 0; k < cameras && k < static_cast<int>(p.time_offsets_s.size()); ++k) {
       offsets[k] = p.time_offsets_s[k];
     }
@@ -81,12 +83,13 @@ struct ParameterBlocks {
     p.cm_body_m = Eigen::Vector3d(c);
     p.body_from_principal_wxyz = Eigen::Vector4d(principal).normalized();
     p.moments_sd = Eigen::Vector2d(sd);
+    p.aero = Eigen::Vector2d(aero);
     p.time_offsets_s = offsets;
     return p;
   }
 
   FlightParameters like;  // t0, model and settings
-  double r0[3], v0[3], g[3], q0[4], w[3], c[3], principal[4], sd[2];
+  double r0[3], v0[3], g[3], q0[4], w[3], c[3], principal[4], sd[2], aero[2];
   std::vector<double> offsets;  // one per camera; sized once (Ceres keeps the pointers)
 };
 
@@ -97,6 +100,7 @@ struct FitContext {
   const FitOptions& options;
   double t0_s;
   std::vector<std::shared_ptr<TorqueFreeTrajectory>> trajectories;  // per camera
+  std::vector<std::shared_ptr<AeroTrajectory>> paths;                // per camera, same samples
 };
 
 // A block Ceres estimates and where its tangent goes in the covariance layout
@@ -113,7 +117,8 @@ struct ModelProblem {
   std::vector<ActiveBlock> active;
 };
 
-// Builds the problem of one rotation model over the sightings flagged in `use`. The
+// Builds the problem of one rotation model (and the translation model of `b`'s
+// parameters) over the sightings flagged in `use`. The
 // gauge: the world frame is fixed by the cameras' poses and gravity, the body frame by the
 // marker layout, the clock by the first camera. Nothing else is fixed, so a spin about an
 // axis fixed in space leaves one direction of c (with r0) free: Levenberg-Marquardt's
@@ -127,6 +132,9 @@ ModelProblem BuildProblem(const FitContext& ctx, RotationModel model, const std:
   out.problem = std::make_unique<ceres::Problem>(problem_options);
   ceres::Problem& problem = *out.problem;
   const bool torque_free = model != RotationModel::kConstantSpin;
+  const TranslationModel translation = b->like.translation_model;
+  const bool in_air = translation != TranslationModel::kVacuum;
+  if (translation == TranslationModel::kDrag) b->aero[1] = 0.0;
   for (size_t i = 0; i < ctx.sightings.size(); ++i) {
     if (!use[i]) continue;
     const Sighting& s = ctx.sightings[i];
@@ -136,7 +144,16 @@ ModelProblem BuildProblem(const FitContext& ctx, RotationModel model, const std:
     ceres::LossFunction* loss =
         robust ? new ceres::HuberLoss(ctx.options.robust_loss_scale_px) : nullptr;
     double* offset = &b->offsets[s.camera];
-    if (torque_free) {
+    if (torque_free && in_air) {
+      problem.AddResidualBlock(
+          AeroTorqueFreeReprojectionCost::Create(std::move(geometry), ctx.trajectories[s.camera],
+                                                 ctx.paths[s.camera], s.sample),
+          loss, b->r0, b->v0, b->g, b->q0, b->w, b->c, offset, b->principal, b->sd, b->aero);
+    } else if (in_air) {
+      problem.AddResidualBlock(
+          AeroReprojectionCost::Create(std::move(geometry), ctx.paths[s.camera], s.sample), loss,
+          b->r0, b->v0, b->g, b->q0, b->w, b->c, offset, b->aero);
+    } else if (torque_free) {
       problem.AddResidualBlock(TorqueFreeReprojectionCost<>::Create(
                                    std::move(geometry), ctx.trajectories[s.camera], s.sample),
                                loss, b->r0, b->v0, b->g, b->q0, b->w, b->c, offset, b->principal,
@@ -176,6 +193,12 @@ ModelProblem BuildProblem(const FitContext& ctx, RotationModel model, const std:
       out.active.push_back({b->principal, kPrincipal, identity(3)});
       out.active.push_back({b->sd, kMoments, identity(2)});
     }
+  }
+  if (translation == TranslationModel::kDrag) {
+    problem.SetManifold(b->aero, new ceres::SubsetManifold(2, {1}));
+    out.active.push_back({b->aero, kAero, Eigen::MatrixXd::Identity(2, 1)});
+  } else if (translation == TranslationModel::kDragLift) {
+    out.active.push_back({b->aero, kAero, identity(2)});
   }
   for (size_t k = 0; k < b->offsets.size(); ++k) {
     double* offset = &b->offsets[k];
@@ -224,11 +247,12 @@ std::vector<Eigen::Vector2d> Residuals(const FitContext& ctx, const FlightParame
   }
   std::vector<Eigen::Matrix3d> rotations;
   p.RotationAt(times, &rotations, nullptr);
+  std::vector<Eigen::Vector3d> positions;
+  p.TranslationAt(times, &positions, nullptr);
   std::vector<Eigen::Vector2d> r(n);
   for (size_t i = 0; i < n; ++i) {
     const Sighting& s = ctx.sightings[i];
-    const Eigen::Vector3d x_world =
-        p.PositionAt(times[i]) + rotations[i] * (s.marker_body_m - p.cm_body_m);
+    const Eigen::Vector3d x_world = positions[i] + rotations[i] * (s.marker_body_m - p.cm_body_m);
     Eigen::Vector2d predicted;
     if (ProjectWorldPoint(ctx.cameras[s.camera], x_world, &predicted)) {
       r[i] = predicted - s.pixel;
@@ -483,6 +507,53 @@ ModelFit ChooseRotationModel(const FitContext& ctx, const std::vector<BodyPose>&
   return fits[best];
 }
 
+// The automatic choice among the translation models (FitOptions::drag = kAuto), with the
+// rotation model already chosen and on its inliers: vacuum, quadratic drag (one more
+// parameter, k) and, for the constant-spin model, drag with Magnus lift (k_L) are fitted
+// and scored by the same BIC; the lowest wins. For a thrown body with no measurable drag
+// the penalty ln n per parameter (about 9 for 4000 residual components) keeps the vacuum
+// model unless k lowers the sum of squares by that many noise variances.
+ModelFit ChooseTranslationModel(const FitContext& ctx, const ModelFit& vacuum, FitResult* result) {
+  std::vector<ModelFit> fits = {vacuum};
+  FlightParameters start = vacuum.parameters;
+  start.translation_model = TranslationModel::kDrag;
+  start.aero.setZero();
+  fits.push_back(FitModel(ctx, vacuum.model, start, vacuum.use, false, Precision::kComparison));
+  std::string lift_note;
+  if (vacuum.model == RotationModel::kConstantSpin) {
+    FlightParameters lift = fits.back().parameters;
+    lift.translation_model = TranslationModel::kDragLift;
+    lift.aero[1] = 0.0;
+    fits.push_back(FitModel(ctx, vacuum.model, lift, vacuum.use, false, Precision::kComparison));
+  } else {
+    lift_note = "; drag with lift not tried: the lift model needs a constant spin axis";
+  }
+  const int n = 2 * static_cast<int>(std::count(vacuum.use.begin(), vacuum.use.end(), true));
+  size_t best = 0;
+  for (size_t m = 0; m < fits.size(); ++m) {
+    FitResult::TranslationTrial trial;
+    trial.model = fits[m].parameters.translation_model;
+    trial.parameters = fits[m].parameter_count;
+    trial.sum_sq_px2 = fits[m].sum_sq_px2;
+    trial.bic = Bic(fits[m].sum_sq_px2, n, fits[m].parameter_count);
+    trial.converged = m == 0 || fits[m].summary.termination_type == ceres::CONVERGENCE;
+    result->translation_trials.push_back(trial);
+    if (trial.bic < result->translation_trials[best].bic) best = m;
+  }
+  std::string others;
+  for (size_t m = 0; m < fits.size(); ++m) {
+    if (m == best) continue;
+    others += fmt::format("{}{} by {:.1f}", others.empty() ? "" : ", ",
+                          TranslationModelName(fits[m].parameters.translation_model),
+                          result->translation_trials[m].bic - result->translation_trials[best].bic);
+  }
+  result->translation_reason = fmt::format(
+      "drag model {} has the lowest Bayesian information criterion over the same {} residual "
+      "components: lower than {}{}",
+      TranslationModelName(fits[best].parameters.translation_model), n, others, lift_note);
+  return fits[best];
+}
+
 }  // namespace
 
 FitResult FitFreeFlight(const std::vector<FrameSightings>& frames, const Body& body,
@@ -559,6 +630,9 @@ FitResult FitFreeFlight(const std::vector<FrameSightings>& frames, const Body& b
     for (Sighting& s : sightings) {
       if (s.camera == static_cast<int>(k)) s.sample = sample_of.at(s.time_s - t0_s);
     }
+    ctx.paths.push_back(std::make_shared<AeroTrajectory>(
+        taus, std::array<double, 3>{options.wind_world_mps.x(), options.wind_world_mps.y(),
+                                    options.wind_world_mps.z()}));
     ctx.trajectories.push_back(
         std::make_shared<TorqueFreeTrajectory>(std::move(taus), options.max_step_angle_rad));
   }
@@ -586,6 +660,13 @@ FitResult FitFreeFlight(const std::vector<FrameSightings>& frames, const Body& b
                    [](const BodyPose& a, const BodyPose& b) { return a.time_s < b.time_s; });
   FlightParameters initial = InitialiseFlight(poses, t0_s, options);
   initial.max_step_angle_rad = options.max_step_angle_rad;
+  initial.wind_world_mps = options.wind_world_mps;
+  switch (options.drag) {
+    case DragChoice::kQuadratic: initial.translation_model = TranslationModel::kDrag; break;
+    case DragChoice::kQuadraticLift: initial.translation_model = TranslationModel::kDragLift; break;
+    case DragChoice::kAuto:
+    case DragChoice::kNone: initial.translation_model = TranslationModel::kVacuum; break;
+  }
   initial.time_offsets_s.resize(cameras.size());
   for (size_t k = 0; k < cameras.size(); ++k) initial.time_offsets_s[k] = OffsetOf(options, static_cast<int>(k));
 
@@ -624,13 +705,21 @@ FitResult FitFreeFlight(const std::vector<FrameSightings>& frames, const Body& b
     }
     case RotationChoice::kAuto: {
       chosen = ChooseRotationModel(ctx, poses, initial, &result);
-      // The chosen model to full precision on the common inliers.
-      chosen = FitModel(ctx, chosen.model, chosen.parameters, chosen.use, false, Precision::kPrecise);
       break;
     }
   }
   if (options.rotation != RotationChoice::kAuto) {
     result.model_reason = fmt::format("{} was asked for", RotationModelName(chosen.model));
+  }
+  if (options.drag == DragChoice::kAuto) {
+    chosen = ChooseTranslationModel(ctx, chosen, &result);
+  } else {
+    result.translation_reason = fmt::format(
+        "drag model {} was asked for", TranslationModelName(chosen.parameters.translation_model));
+  }
+  if (options.rotation == RotationChoice::kAuto || options.drag == DragChoice::kAuto) {
+    // The chosen models to full precision on the common inliers.
+    chosen = FitModel(ctx, chosen.model, chosen.parameters, chosen.use, false, Precision::kPrecise);
   }
 
   // The chosen model's problem again (plain least squares on its inliers) for the

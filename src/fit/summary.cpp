@@ -54,6 +54,7 @@ FlightParameters Perturb(const FlightParameters& p, const Eigen::VectorXd& d) {
   const Eigen::Vector3d dp = d.segment<3>(kPrincipal);
   manifold.Plus(p.body_from_principal_wxyz.data(), dp.data(), out.body_from_principal_wxyz.data());
   out.moments_sd += d.segment<2>(kMoments);
+  out.aero += d.segment<2>(kAero);
   for (size_t k = 0; k < out.time_offsets_s.size() && kTimeOffsets + k < size_t(d.size()); ++k) {
     out.time_offsets_s[k] += d[kTimeOffsets + k];
   }
@@ -115,7 +116,63 @@ std::vector<double> FlipTimes(const FlightParameters& p, const std::vector<doubl
 
 }  // namespace
 
-FlightSummary Summarise(const FitResult& fit, const Body& body) {
+namespace {
+
+DragSummary SummariseDrag(const FitResult& fit, const Body& body, const AirSpec& air,
+                          double launch_time_s) {
+  const FlightParameters& p = fit.parameters;
+  DragSummary d;
+  d.model = p.translation_model;
+  d.reason = fit.translation_reason;
+  d.air_density_kgpm3 = air.Density();
+  d.air_viscosity_pas = air.Viscosity();
+  d.air = air.Describe();
+  d.wind_world_mps = p.wind_world_mps;
+  if (d.model == TranslationModel::kVacuum) return d;
+  const Eigen::Matrix2d cov = fit.covariance.block<2, 2>(kAero, kAero);
+  d.k_per_m = p.aero[0];
+  d.sigma_k_per_m = std::sqrt(std::max(cov(0, 0), 0.0));
+  if (d.model == TranslationModel::kDragLift) {
+    d.k_lift = p.aero[1];
+    d.sigma_k_lift = std::sqrt(std::max(cov(1, 1), 0.0));
+  }
+  const Eigen::Vector3d v_r = p.VelocityAt(launch_time_s) - p.wind_world_mps;
+  const double rho = d.air_density_kgpm3;
+  std::optional<double> mass_kg = body.mass_kg;
+  if (!mass_kg && !body.parts.empty()) mass_kg = CombineParts(body.parts).mass_kg;
+  if (mass_kg && body.reference_area_m2) {
+    // k = rho C_d A / (2 m)  =>  C_d = 2 m k / (rho A); the mass, area and density are
+    // taken as exact: the 1-sigma is that of k alone.
+    const double scale = 2.0 * *mass_kg / (rho * *body.reference_area_m2);
+    d.cd = scale * *d.k_per_m;
+    d.sigma_cd = scale * *d.sigma_k_per_m;
+    if (d.k_lift) {
+      // |a_L| = k_L |w x v_r| = C_L rho A |v_r|^2 / (2 m).
+      const double ratio = p.omega_world_radps.cross(v_r).norm() / v_r.squaredNorm();
+      d.cl_at_launch = scale * *d.k_lift * ratio;
+      d.sigma_cl_at_launch = scale * *d.sigma_k_lift * ratio;
+    }
+  } else {
+    d.notes.push_back(
+        "C_d is not reported: it needs the body's mass (mass_kg or a parts list) and its "
+        "reference area (aero_reference: {area: ..}) in the body file.");
+  }
+  if (body.reference_length_m) {
+    // Re = rho |v_r| L / mu (common practice), at launch.
+    d.reynolds_at_launch = rho * v_r.norm() * *body.reference_length_m / d.air_viscosity_pas;
+    d.spin_ratio_at_launch =
+        p.omega_world_radps.norm() * *body.reference_length_m / (2.0 * v_r.norm());
+  } else {
+    d.notes.push_back(
+        "The Reynolds number is not reported: it needs the body's reference length "
+        "(aero_reference: {length: ..}) in the body file.");
+  }
+  return d;
+}
+
+}  // namespace
+
+FlightSummary Summarise(const FitResult& fit, const Body& body, const AirSpec& air) {
   FlightSummary s;
   const FlightParameters& p = fit.parameters;
   const std::vector<Eigen::Vector3d>& null_body = fit.cm.unobservable_body;
@@ -275,6 +332,7 @@ FlightSummary Summarise(const FitResult& fit, const Body& body) {
   s.time_offsets_s = fit.time_offsets_s;
   s.sigma_time_offsets_s = fit.sigma_time_offsets_s;
   s.rms_px_per_camera = fit.rms_px_per_camera;
+  s.drag = SummariseDrag(fit, body, air, tl);
   return s;
 }
 

@@ -193,6 +193,19 @@ Body ReadBodyYaml(const std::filesystem::path& path) {
   }
   body.mass_kg = map.OptionalNumber("mass_kg", "the body's weighed mass, kg (positive)");
   if (body.mass_kg && !(*body.mass_kg > 0)) map.Fail("mass_kg", "a positive mass in kg");
+  if (map.Has("aero_reference")) {
+    YamlMap aero = map.Map("aero_reference");
+    const std::string area_expected = "a positive reference area in " + units.label() + "^2";
+    const double area = aero.Number("area", area_expected);
+    if (!(area > 0)) aero.Fail("area", area_expected);
+    body.reference_area_m2 = units.ToM(units.ToM(area));
+    const std::string length_expected = "a positive reference length in " + units.label();
+    if (const auto length = aero.OptionalNumber("length", length_expected)) {
+      if (!(*length > 0)) aero.Fail("length", length_expected);
+      body.reference_length_m = units.ToM(*length);
+    }
+    aero.Finish();
+  }
   map.Finish();
   return body;
 }
@@ -201,6 +214,11 @@ void WriteBodyYaml(const Body& body, const std::filesystem::path& path) {
   WriteFileAtomically(path, [&](std::ostream& out) {
     out << "units: mm\n";
     if (body.mass_kg) out << fmt::format("mass_kg: {}\n", *body.mass_kg);
+    if (body.reference_area_m2) {
+      out << fmt::format("aero_reference: {{area: {}", *body.reference_area_m2 * 1e6);
+      if (body.reference_length_m) out << fmt::format(", length: {}", *body.reference_length_m * 1e3);
+      out << "}\n";
+    }
     out << "markers:\n";
     for (const Marker& marker : body.markers) {
       out << fmt::format("  - {{id: {}, at: {}, diameter: {}", marker.id, Mm(marker.at_body_m),

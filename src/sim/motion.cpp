@@ -22,11 +22,13 @@ Eigen::Quaterniond FromWxyz(const Eigen::Vector4d& v) {
 }  // namespace
 
 RigidBodyIntegrator::RigidBodyIntegrator(const Eigen::Matrix3d& inertia_body_kgm2,
-                                         AccelerationField acceleration, double max_step_s)
+                                         AccelerationField acceleration, double max_step_s,
+                                         const Eigen::Vector3d& angular_acceleration_body_radps2)
     : inertia_(inertia_body_kgm2),
       inertia_inverse_(inertia_body_kgm2.inverse()),
       acceleration_(std::move(acceleration)),
-      max_step_s_(max_step_s) {
+      max_step_s_(max_step_s),
+      angular_acceleration_(angular_acceleration_body_radps2) {
   if (!(max_step_s > 0)) throw std::invalid_argument("RigidBodyIntegrator: step must be > 0");
 }
 
@@ -35,13 +37,13 @@ RigidState RigidBodyIntegrator::Step(const RigidState& s, double h) const {
                         const Eigen::Vector4d& q, const Eigen::Vector3d& w) {
     Derivative d;
     d.dr = v;
-    d.dv = acceleration_(r, v);
     // q' = q (x) [0, w] / 2 with w in the body frame.
     const Eigen::Quaterniond qq = FromWxyz(q);
+    d.dv = acceleration_(r, v, qq.normalized() * w);
     const Eigen::Quaterniond wq(0.0, w.x(), w.y(), w.z());
     d.dq = 0.5 * Wxyz(qq * wq);
     // Euler's equations: I w' = -w x (I w).
-    d.dw = -inertia_inverse_ * w.cross(inertia_ * w);
+    d.dw = -inertia_inverse_ * w.cross(inertia_ * w) + angular_acceleration_;
     return d;
   };
   const Eigen::Vector3d r = s.cm_world_m, v = s.velocity_world_mps, w = s.omega_body_radps;

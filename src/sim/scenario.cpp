@@ -168,6 +168,60 @@ Scenario ReadScenarioYaml(const std::filesystem::path& path) {
     }
     v.Finish();
   }
+  if (root.Has("aero")) {
+    YamlMap a = root.Map("aero");
+    const bool has_k = a.Has("k_per_m"), has_cd = a.Has("cd");
+    if (has_k == has_cd) a.Fail("", "exactly one of k_per_m and cd");
+    if (has_k) {
+      s.aero.k_per_m = a.Number("k_per_m", "a drag constant k = rho C_d A / (2 m) in 1/m");
+    } else {
+      s.aero.cd = a.Number("cd", "a drag coefficient");
+      s.aero.density_kgpm3 = a.OptionalNumber("density_kgpm3", "an air density in kg/m^3").value_or(1.225);
+      if (!s.body.reference_area_m2) {
+        a.Fail("cd", "k_per_m, or a body file with aero_reference: {area: ..} for C_d");
+      }
+      // k = rho C_d A / (2 m), with the parts list's mass (the simulator's truth).
+      const double mass_kg = CombineParts(s.body.parts).mass_kg;
+      s.aero.k_per_m = *s.aero.density_kgpm3 * *s.aero.cd * *s.body.reference_area_m2 / (2.0 * mass_kg);
+    }
+    s.aero.k_lift = a.OptionalNumber("k_lift", "a Magnus coefficient (dimensionless)").value_or(0.0);
+    if (auto wind = a.OptionalVector3("wind_mps", "a steady wind [x, y, z] in m/s")) {
+      s.aero.wind_world_mps = *wind;
+    }
+    a.Finish();
+  }
+  if (root.Has("hand")) {
+    YamlMap h = root.Map("hand");
+    ScenarioHand hand;
+    hand.release_time_s = h.Number("release_time_s", "the time of release, s");
+    if (!(hand.release_time_s >= 0)) h.Fail("release_time_s", "a time of release >= 0, s");
+    hand.acceleration_mps2 =
+        h.Vector3("acceleration_mps2", "the hand's push beyond gravity [x, y, z], m/s^2");
+    if (auto alpha = h.OptionalVector3("angular_acceleration_radps2",
+                                       "an angular acceleration in the body frame, rad/s^2")) {
+      hand.angular_acceleration_body_radps2 = *alpha;
+    }
+    h.Finish();
+    s.hand = hand;
+  }
+  if (root.Has("impact")) {
+    YamlMap m = root.Map("impact");
+    ScenarioImpact impact;
+    impact.time_s = m.Number("time_s", "the time of impact, s");
+    if (auto n = m.OptionalVector3("normal", "the surface normal [x, y, z]")) {
+      if (!(n->norm() > 0)) m.Fail("normal", "a non-zero normal");
+      impact.normal_world = n->normalized();
+    }
+    impact.restitution = m.OptionalNumber("restitution", "0 < e <= 1").value_or(impact.restitution);
+    if (!(impact.restitution > 0 && impact.restitution <= 1)) m.Fail("restitution", "0 < e <= 1");
+    impact.spin_kept = m.OptionalNumber("spin_kept", "0 < fraction <= 1").value_or(impact.spin_kept);
+    if (!(impact.spin_kept > 0 && impact.spin_kept <= 1)) m.Fail("spin_kept", "0 < fraction <= 1");
+    m.Finish();
+    s.impact = impact;
+  }
+  if (s.hand && s.impact && !(s.impact->time_s > s.hand->release_time_s)) {
+    root.Fail("impact", "an impact after the release");
+  }
   root.Finish();
   return s;
 }

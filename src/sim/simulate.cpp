@@ -13,21 +13,11 @@
 #include "tumbletrace/core/atomic_file.hpp"
 #include "tumbletrace/core/error.hpp"
 #include "tumbletrace/model/session.hpp"
+#include "tumbletrace/sim/flight_phases.hpp"
 #include "tumbletrace/sim/render.hpp"
 
 namespace tumbletrace {
 namespace {
-
-RigidBodyIntegrator MakeIntegrator(const Scenario& s, const MassProperties& mass) {
-  const Eigen::Vector3d g = s.gravity_world_mps2;
-  // Steps short against both the frame interval and the spin: RK4's error per step grows
-  // as (w h)^5, far below 1e-12 rad at w h <= 0.005.
-  const double w = s.launch_omega_body_radps.norm();
-  const double max_step_s = std::min(0.1 / s.capture_fps, w > 0 ? 0.005 / w : 1.0);
-  return RigidBodyIntegrator(
-      mass.inertia_about_cm_kgm2,
-      [g](const Eigen::Vector3d&, const Eigen::Vector3d&) { return g; }, max_step_s);
-}
 
 Eigen::Vector3d MarkerWorld(const RigidState& state, const MassProperties& mass,
                             const Eigen::Vector3d& at_body_m) {
@@ -184,7 +174,7 @@ nlohmann::json Vec(const Eigen::Vector3d& v) { return {v.x(), v.y(), v.z()}; }
 
 nlohmann::json TruthJson(const Simulation& sim) {
   const Scenario& s = sim.scenario;
-  const RigidState& launch = sim.frames.front().state;
+  const RigidState launch = StateAt(sim, s.LaunchTimeS());
   const Eigen::Vector3d omega_world = launch.world_from_body * launch.omega_body_radps;
   nlohmann::json j;
   j["note"] = "Ground truth of a simulated throw (invented scenario).";
@@ -196,13 +186,30 @@ nlohmann::json TruthJson(const Simulation& sim) {
   for (int r = 0; r < 3; ++r) inertia.push_back(Vec(sim.mass.inertia_about_cm_kgm2.row(r)));
   j["inertia_about_cm_kgm2"] = inertia;
   j["gravity_mps2"] = Vec(s.gravity_world_mps2);
-  j["launch"]["time_s"] = sim.frames.front().time_s;
+  j["launch"]["time_s"] = s.LaunchTimeS();
   j["launch"]["position_m"] = Vec(launch.cm_world_m);
   j["launch"]["velocity_mps"] = Vec(launch.velocity_world_mps);
   j["spin"]["omega_body_radps"] = Vec(launch.omega_body_radps);
   j["spin"]["omega_world_radps"] = Vec(omega_world);
   j["spin"]["rate_rev_per_s"] = launch.omega_body_radps.norm() / (2 * M_PI);
   j["tracks_sigma_px"] = s.tracks_sigma_px;
+  // The free-flight frames: from the first at or after release to the last before impact.
+  {
+    const double dt = 1.0 / s.capture_fps;
+    int first = 0, last = s.frames - 1;
+    while (first < s.frames && first * dt < s.LaunchTimeS()) ++first;
+    while (s.impact && last >= 0 && last * dt >= s.impact->time_s) --last;
+    j["window"]["first_frame"] = first;
+    j["window"]["last_frame"] = last;
+    j["window"]["release_time_s"] = s.hand ? nlohmann::json(s.hand->release_time_s) : nlohmann::json();
+    j["window"]["impact_time_s"] = s.impact ? nlohmann::json(s.impact->time_s) : nlohmann::json();
+  }
+  j["aero"]["k_per_m"] = s.aero.k_per_m;
+  j["aero"]["k_lift"] = s.aero.k_lift;
+  j["aero"]["wind_mps"] = Vec(s.aero.wind_world_mps);
+  j["aero"]["cd"] = s.aero.cd ? nlohmann::json(*s.aero.cd) : nlohmann::json();
+  j["aero"]["density_kgpm3"] =
+      s.aero.density_kgpm3 ? nlohmann::json(*s.aero.density_kgpm3) : nlohmann::json();
   // Each camera's true clock offset, and that relative to the first camera's clock (what the
   // fit estimates).
   const std::vector<ScenarioCamera> cameras = s.FilmingCameras();
@@ -246,7 +253,7 @@ Simulation SimulateFlight(const Scenario& scenario) {
                      ": the simulator needs a parts list (mass, CM and inertia)");
   }
   sim.mass = CombineParts(scenario.body.parts);
-  const RigidBodyIntegrator integrator = MakeIntegrator(scenario, sim.mass);
+  const FlightPhases phases(scenario, sim.mass);
   RigidState state;
   state.cm_world_m = scenario.launch_cm_world_m;
   state.velocity_world_mps = scenario.launch_velocity_world_mps;
@@ -256,8 +263,30 @@ Simulation SimulateFlight(const Scenario& scenario) {
   std::normal_distribution<double> noise(0.0, 1.0);
   const double dt = 1.0 / scenario.capture_fps;
   const std::vector<ScenarioCamera> cameras = scenario.FilmingCameras();
+  // The frames' states: from the launch (at release, when the hand holds the body first)
+  // forwards, and backwards for the frames before it.
+  const double t_launch = scenario.LaunchTimeS();
+  std::vector<RigidState> states(scenario.frames);
+  {
+    RigidState s = state;
+    double t = t_launch;
+    for (int i = 0; i < scenario.frames; ++i) {
+      if (i * dt < t_launch) continue;
+      s = phases.Advance(s, t, i * dt);
+      t = i * dt;
+      states[i] = s;
+    }
+    s = state;
+    t = t_launch;
+    for (int i = scenario.frames - 1; i >= 0; --i) {
+      if (i * dt >= t_launch) continue;
+      s = phases.Advance(s, t, i * dt);
+      t = i * dt;
+      states[i] = s;
+    }
+  }
   for (int i = 0; i < scenario.frames; ++i) {
-    if (i > 0) state = integrator.Advance(state, dt);
+    state = states[i];
     FrameTruth f;
     f.frame = i;
     f.time_s = i * dt;
@@ -265,7 +294,8 @@ Simulation SimulateFlight(const Scenario& scenario) {
     for (int k = 0; k < static_cast<int>(cameras.size()); ++k) {
       // Camera k exposes its frame i at world time i dt + its clock offset.
       const double offset_s = cameras[k].time_offset_s;
-      const RigidState seen = offset_s == 0.0 ? state : integrator.Advance(state, offset_s);
+      const RigidState seen =
+          offset_s == 0.0 ? state : phases.Advance(state, f.time_s, f.time_s + offset_s);
       for (const Marker& m : scenario.body.markers) {
         MarkerTruth t;
         t.id = m.id;
@@ -296,7 +326,7 @@ RigidState StateAt(const Simulation& sim, double t_s) {
   const double fps = sim.scenario.capture_fps;
   const int k = std::clamp(static_cast<int>(std::floor(t_s * fps + 0.5)), 0,
                            static_cast<int>(sim.frames.size()) - 1);
-  return MakeIntegrator(sim.scenario, sim.mass).Advance(sim.frames[k].state, t_s - k / fps);
+  return FlightPhases(sim.scenario, sim.mass).Advance(sim.frames[k].state, sim.frames[k].time_s, t_s);
 }
 
 cv::Mat RenderSimulatedFrame(const Simulation& sim, int frame, int camera_index) {
@@ -312,7 +342,7 @@ cv::Mat RenderSimulatedFrame(const Simulation& sim, int frame, int camera_index)
   render.noise_sigma_levels = s.image_sigma_levels;
   render.noise_seed =
       CameraSeed(s.seed * 1000003ULL + static_cast<std::uint64_t>(frame), camera_index);
-  const RigidBodyIntegrator integrator = MakeIntegrator(s, sim.mass);
+  const FlightPhases phases(s, sim.mass);
   const int samples = s.exposure_s > 0 ? s.video.exposure_samples : 1;
   const FrameTruth& f = sim.frames.at(frame);
   std::vector<SceneInstant> exposure;
@@ -320,7 +350,7 @@ cv::Mat RenderSimulatedFrame(const Simulation& sim, int frame, int camera_index)
     // The exposure is centred on the frame's time on the camera's clock.
     const double offset_s = camera.time_offset_s +
                             (samples > 1 ? s.exposure_s * ((j + 0.5) / samples - 0.5) : 0.0);
-    const RigidState state = integrator.Advance(f.state, offset_s);
+    const RigidState state = phases.Advance(f.state, f.time_s, f.time_s + offset_s);
     exposure.push_back(ProjectScene(sim, camera.camera, camera_index, state, frame));
   }
   return RenderFrame(exposure, render);

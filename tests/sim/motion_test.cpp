@@ -14,7 +14,7 @@ RigidBodyIntegrator Tumbler(double step_s) {
   Eigen::Matrix3d inertia;
   inertia << 2.0e-4, 1.0e-5, -2.0e-5, 1.0e-5, 3.1e-3, 4.0e-6, -2.0e-5, 4.0e-6, 3.3e-3;
   return RigidBodyIntegrator(
-      inertia, [g](const Eigen::Vector3d&, const Eigen::Vector3d&) { return g; }, step_s);
+      inertia, [g](const Eigen::Vector3d&, const Eigen::Vector3d&, const Eigen::Vector3d&) { return g; }, step_s);
 }
 
 TEST(RigidBodyIntegrator, ConservesEnergyAndAngularMomentumWhileTumbling) {

@@ -12,7 +12,7 @@ std::vector<Eigen::Vector3d> Simulate(const Eigen::Vector3d& moments, const Eige
                                       const std::vector<double>& times_s) {
   const RigidBodyIntegrator integrator(
       moments.asDiagonal().toDenseMatrix(),
-      [](const Eigen::Vector3d&, const Eigen::Vector3d&) { return Eigen::Vector3d::Zero(); }, 1e-4);
+      [](const Eigen::Vector3d&, const Eigen::Vector3d&, const Eigen::Vector3d&) { return Eigen::Vector3d::Zero(); }, 1e-4);
   RigidState s;
   s.omega_body_radps = w0;
   double t = 0.0;

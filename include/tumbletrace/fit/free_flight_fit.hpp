@@ -31,6 +31,15 @@ enum class RotationModel {
 // The name results.json uses ("constant-spin", "symmetric", "free").
 const char* RotationModelName(RotationModel model);
 
+// How the CM moves: in vacuum (a parabola), or through air with quadratic drag, or with
+// drag and a spin-dependent (Magnus) lift (fit/aero.hpp).
+enum class TranslationModel { kVacuum, kDrag, kDragLift };
+// The name results.json uses ("none", "quadratic", "quadratic+lift").
+const char* TranslationModelName(TranslationModel model);
+
+// Which translation models the fit tries: one, or all that apply with the choice by BIC.
+enum class DragChoice { kAuto, kNone, kQuadratic, kQuadraticLift };
+
 // Which rotation models the fit tries: one, or all three with the choice by the Bayesian
 // information criterion (the simplest model wins unless a richer one lowers the BIC).
 enum class RotationChoice { kAuto, kConstantSpin, kSymmetricTop, kFreeTop };
@@ -65,6 +74,8 @@ struct FitOptions {
   std::vector<double> time_offsets_s;
   bool estimate_time_offsets = false;
   RotationChoice rotation = RotationChoice::kAuto;
+  DragChoice drag = DragChoice::kAuto;
+  Eigen::Vector3d wind_world_mps = Eigen::Vector3d::Zero();  // steady wind, given
   // Hold the principal axes and moment ratios (torque-free models) instead of estimating.
   std::optional<HeldInertia> held_inertia;
   // Step bound of the torque-free integrator: the largest turn of the body per RK4 step.
@@ -91,6 +102,10 @@ struct FlightParameters {
   // Per camera: world time = frame time + offset (the first camera's is 0).
   std::vector<double> time_offsets_s;
   double max_step_angle_rad = kTorqueFreeMaxStepAngleRad;  // integrator step bound
+  // Flight through air: k [1/m] and k_L (fit/aero.hpp), zero in vacuum; the wind as given.
+  TranslationModel translation_model = TranslationModel::kVacuum;
+  Eigen::Vector2d aero = Eigen::Vector2d::Zero();
+  Eigen::Vector3d wind_world_mps = Eigen::Vector3d::Zero();
 
   // Camera k's clock offset (0 for a camera the list does not reach), s.
   double TimeOffsetS(int camera) const {
@@ -100,6 +115,9 @@ struct FlightParameters {
   Eigen::Matrix3d BodyFromPrincipal() const;
   Eigen::Vector3d PositionAt(double t_s) const;
   Eigen::Vector3d VelocityAt(double t_s) const;
+  // The CM's position and velocity at many times (one integration for all in air).
+  void TranslationAt(const std::vector<double>& t_s, std::vector<Eigen::Vector3d>* positions_m,
+                     std::vector<Eigen::Vector3d>* velocities_mps) const;
   Eigen::Matrix3d WorldFromBodyAt(double t_s) const;
   Eigen::Vector3d OmegaWorldAt(double t_s) const;
   // Orientation and world angular velocity at many times (one integration for all).
@@ -112,10 +130,11 @@ struct FlightParameters {
 
 // Order of the tangent-space covariance: r0 (3), v0 (3), g (3), q0 (3), w (3), c (3),
 // principal axes (3: a rotation vector in the body frame, exp(d) p), moments (2: s, d),
-// then one clock offset per camera. Blocks a model does not have are zero.
+// the aerodynamic coefficients (2: k, k_L), then one clock offset per camera. Blocks a
+// model does not have are zero.
 enum CovarianceBlock {
   kR0 = 0, kV0 = 3, kG = 6, kQ0 = 9, kOmega = 12, kCm = 15, kPrincipal = 18, kMoments = 21,
-  kTimeOffsets = 23
+  kAero = 23, kTimeOffsets = 25
 };
 inline int TangentSize(int cameras) { return kTimeOffsets + cameras; }
 
@@ -162,6 +181,17 @@ struct FitResult {
     bool converged = false;
   };
   std::vector<ModelTrial> model_trials;  // empty when one model was asked for
+  // The translation models tried (vacuum, drag, drag with lift), scored the same way on
+  // the chosen rotation model's inliers; empty when one was asked for.
+  struct TranslationTrial {
+    TranslationModel model = TranslationModel::kVacuum;
+    int parameters = 0;
+    double sum_sq_px2 = 0.0;
+    double bic = 0.0;
+    bool converged = false;
+  };
+  std::vector<TranslationTrial> translation_trials;
+  std::string translation_reason;       // why this translation model, in words
   // Torque-free models: whether the principal axes and moments were held (from the parts
   // list) and, when estimated, whether the data determine them.
   bool inertia_held = false;

@@ -10,6 +10,7 @@
 #include <Eigen/Core>
 #include <memory>
 
+#include "tumbletrace/fit/aero_trajectory.hpp"
 #include "tumbletrace/fit/flight_model.hpp"
 #include "tumbletrace/fit/torque_free_rotation.hpp"
 #include "tumbletrace/model/camera.hpp"
@@ -114,6 +115,79 @@ class TorqueFreeReprojectionCost {
  private:
   SightingGeometry g_;
   std::shared_ptr<TorqueFreeTrajectory> trajectory_;
+  int sample_;
+};
+
+// Flight through air (fit/aero.hpp) with the constant-spin rotation.
+// Parameter blocks: r0 (3), v0 (3), g (3), q0 (4), w (3), c (3), offset (1), aero (2: k, k_L).
+class AeroReprojectionCost {
+ public:
+  AeroReprojectionCost(SightingGeometry geometry, std::shared_ptr<AeroTrajectory> path, int sample)
+      : g_(std::move(geometry)), path_(std::move(path)), sample_(sample) {}
+
+  template <typename T>
+  bool operator()(const T* r0_world_m, const T* v0_world_mps, const T* g_world_mps2,
+                  const T* q0_world_from_body, const T* omega_world_radps, const T* cm_body_m,
+                  const T* offset_s, const T* aero, T* residual_px) const {
+    T r_world_m[3];
+    AeroPosition(r0_world_m, v0_world_mps, g_world_mps2, aero, omega_world_radps, offset_s[0],
+                 *path_, sample_, r_world_m);
+    const T dt = T(g_.dt_s) + offset_s[0];
+    T q[4];
+    ConstantSpinRotation::Orientation(q0_world_from_body, omega_world_radps, dt, q);
+    return MarkerPixelResidual(r_world_m, q, g_.marker_body_m.data(), cm_body_m, g_.intrinsics,
+                               g_.camera_from_world, g_.observed_px, residual_px);
+  }
+
+  static ceres::CostFunction* Create(SightingGeometry geometry,
+                                     std::shared_ptr<AeroTrajectory> path, int sample) {
+    return new ceres::AutoDiffCostFunction<AeroReprojectionCost, 2, 3, 3, 3, 4, 3, 3, 1, 2>(
+        new AeroReprojectionCost(std::move(geometry), std::move(path), sample));
+  }
+
+ private:
+  SightingGeometry g_;
+  std::shared_ptr<AeroTrajectory> path_;
+  int sample_;
+};
+
+// Flight through air with the torque-free rotation.
+// Parameter blocks: those of TorqueFreeReprojectionCost, then aero (2: k, k_L).
+class AeroTorqueFreeReprojectionCost {
+ public:
+  AeroTorqueFreeReprojectionCost(SightingGeometry geometry,
+                                 std::shared_ptr<TorqueFreeTrajectory> rotation,
+                                 std::shared_ptr<AeroTrajectory> path, int sample)
+      : g_(std::move(geometry)), rotation_(std::move(rotation)), path_(std::move(path)),
+        sample_(sample) {}
+
+  template <typename T>
+  bool operator()(const T* r0_world_m, const T* v0_world_mps, const T* g_world_mps2,
+                  const T* q0_world_from_body, const T* omega_world_radps, const T* cm_body_m,
+                  const T* offset_s, const T* body_from_principal, const T* moments_sd,
+                  const T* aero, T* residual_px) const {
+    T q[4];
+    TorqueFreeOrientation(q0_world_from_body, omega_world_radps, body_from_principal,
+                          moments_sd, offset_s[0], *rotation_, sample_, q);
+    T r_world_m[3];
+    AeroPosition(r0_world_m, v0_world_mps, g_world_mps2, aero, omega_world_radps, offset_s[0],
+                 *path_, sample_, r_world_m);
+    return MarkerPixelResidual(r_world_m, q, g_.marker_body_m.data(), cm_body_m, g_.intrinsics,
+                               g_.camera_from_world, g_.observed_px, residual_px);
+  }
+
+  static ceres::CostFunction* Create(SightingGeometry geometry,
+                                     std::shared_ptr<TorqueFreeTrajectory> rotation,
+                                     std::shared_ptr<AeroTrajectory> path, int sample) {
+    return new ceres::AutoDiffCostFunction<AeroTorqueFreeReprojectionCost, 2, 3, 3, 3, 4, 3, 3,
+                                           1, 4, 2, 2>(new AeroTorqueFreeReprojectionCost(
+        std::move(geometry), std::move(rotation), std::move(path), sample));
+  }
+
+ private:
+  SightingGeometry g_;
+  std::shared_ptr<TorqueFreeTrajectory> rotation_;
+  std::shared_ptr<AeroTrajectory> path_;
   int sample_;
 };
 

@@ -13,6 +13,7 @@
 #include <vector>
 
 #include "tumbletrace/fit/free_flight_fit.hpp"
+#include "tumbletrace/model/air.hpp"
 #include "tumbletrace/model/body.hpp"
 
 namespace tumbletrace {
@@ -34,6 +35,27 @@ struct ReferenceDistance {
   MaybeVector3 vector_m;                  // CM - reference point, body frame
   std::optional<double> distance_m;
   std::optional<double> sigma_distance_m;
+};
+
+// Flight through air: the chosen translation model and, when it has them, the drag
+// constant k = rho C_d A / (2 m) and the Magnus coefficient k_L (fit/aero.hpp), with the
+// coefficients that need the mass and the reference area (C_d; C_L at launch) and the
+// Reynolds number at launch, which needs the reference length. The air density and
+// viscosity are the session's (or the standard atmosphere's, said so in `air`).
+struct DragSummary {
+  TranslationModel model = TranslationModel::kVacuum;
+  std::string reason;
+  std::optional<double> k_per_m, sigma_k_per_m;
+  std::optional<double> k_lift, sigma_k_lift;
+  std::optional<double> cd, sigma_cd;
+  std::optional<double> cl_at_launch, sigma_cl_at_launch;
+  std::optional<double> reynolds_at_launch;
+  std::optional<double> spin_ratio_at_launch;   // |w| L / (2 |v_r|)
+  double air_density_kgpm3 = 0.0;
+  double air_viscosity_pas = 0.0;
+  std::string air;                              // where the density comes from
+  Eigen::Vector3d wind_world_mps = Eigen::Vector3d::Zero();
+  std::vector<std::string> notes;               // why a coefficient is null
 };
 
 struct FlightSummary {
@@ -100,10 +122,12 @@ struct FlightSummary {
   std::vector<double> time_offsets_s;
   std::vector<double> sigma_time_offsets_s;
   std::vector<double> rms_px_per_camera;
+
+  DragSummary drag;
 };
 
-// Derives the summary of a fit.
-FlightSummary Summarise(const FitResult& fit, const Body& body);
+// Derives the summary of a fit; `air` gives the density and viscosity for C_d and Re.
+FlightSummary Summarise(const FitResult& fit, const Body& body, const AirSpec& air = AirSpec());
 
 // Tangent-space perturbation of the parameters, in CovarianceBlock order (q0 and the
 // principal frame by Ceres' QuaternionManifold: q <- [cos|d|, sin|d| d/|d|] (x) q).

@@ -45,6 +45,11 @@ struct Body {
   std::vector<Part> parts;
   // The weighed mass (`mass_kg`), when the user gives it: energies in joules.
   std::optional<double> mass_kg;
+  // The aerodynamic reference area and length (`aero_reference: {area: .., length: ..}`,
+  // in the file's units squared and units): the drag coefficient C_d = 2 m k / (rho A)
+  // and the Reynolds number Re = rho |v| L / mu need them.
+  std::optional<double> reference_area_m2;
+  std::optional<double> reference_length_m;
 
   const Marker* FindMarker(int id) const;
 };

@@ -22,16 +22,20 @@ struct RigidState {
   Eigen::Vector3d omega_body_radps = Eigen::Vector3d::Zero();
 };
 
-// The CM's acceleration as a function of position and velocity (world frame, m/s^2).
-using AccelerationField =
-    std::function<Eigen::Vector3d(const Eigen::Vector3d& r_m, const Eigen::Vector3d& v_mps)>;
+// The CM's acceleration as a function of position, velocity and the body's angular
+// velocity (world frame, m/s^2): gravity, and the air's drag and lift.
+using AccelerationField = std::function<Eigen::Vector3d(
+    const Eigen::Vector3d& r_m, const Eigen::Vector3d& v_mps, const Eigen::Vector3d& w_world_radps)>;
 
 class RigidBodyIntegrator {
  public:
   // `inertia_body_kgm2` about the CM in body axes (any positive-definite tensor; only its
-  // ratios matter). `max_step_s` bounds the RK4 step.
+  // ratios matter). `max_step_s` bounds the RK4 step. `angular_acceleration_body_radps2`
+  // adds a constant angular acceleration (body frame) to Euler's equations: a torque, such
+  // as a hand's before release.
   RigidBodyIntegrator(const Eigen::Matrix3d& inertia_body_kgm2, AccelerationField acceleration,
-                      double max_step_s);
+                      double max_step_s,
+                      const Eigen::Vector3d& angular_acceleration_body_radps2 = Eigen::Vector3d::Zero());
 
   // The state `duration_s` later (negative: earlier; the equations are reversible).
   RigidState Advance(const RigidState& state, double duration_s) const;
@@ -48,6 +52,7 @@ class RigidBodyIntegrator {
   Eigen::Matrix3d inertia_inverse_;
   AccelerationField acceleration_;
   double max_step_s_;
+  Eigen::Vector3d angular_acceleration_;
 };
 
 }  // namespace tumbletrace

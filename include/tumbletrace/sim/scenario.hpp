@@ -19,6 +19,13 @@
 //   noise: {tracks_sigma_px: 0.2, image_sigma_levels: 2.0, seed: 1}
 //   occlusions: [{marker: 3, first_frame: 100, last_frame: 119}]   # optional
 //   glints_per_frame: 2                                             # optional
+//   aero: {k_per_m: 0.02, k_lift: 0.001, wind_mps: [1, 0, 0]}     # optional: flight through air;
+//         # or {cd: 0.47, density_kgpm3: 1.2}, with the body's aero_reference area and the
+//         # parts' mass giving k = rho C_d A / (2 m)
+//   hand: {release_time_s: 0.04, acceleration_mps2: [20, 0, 60],  # optional: held before
+//          angular_acceleration_radps2: [0, 0, -300]}              # release; `launch` is then
+//                                                                  # the state at release
+//   impact: {time_s: 0.3, normal: [0, 0, 1], restitution: 0.5, spin_kept: 0.6}   # optional
 //   video: {write: true, format: mp4, playback_fps: 30, exposure_samples: 8, supersampling: 4,
 //           background_level: 40, body_level: 70, dot_level: 230}
 #pragma once
@@ -27,6 +34,7 @@
 #include <Eigen/Geometry>
 #include <cstdint>
 #include <filesystem>
+#include <optional>
 #include <string>
 #include <vector>
 
@@ -51,6 +59,32 @@ struct Occlusion {
   int marker_id = 0;
   int first_frame = 0;
   int last_frame = 0;
+};
+
+// The air of a simulated flight: the model of fit/aero.hpp with these coefficients.
+struct ScenarioAero {
+  double k_per_m = 0.0;
+  double k_lift = 0.0;
+  Eigen::Vector3d wind_world_mps = Eigen::Vector3d::Zero();
+  std::optional<double> cd;             // when k was given as C_d (with the density)
+  std::optional<double> density_kgpm3;
+};
+
+// The hand before release: the body is pushed with this acceleration beyond gravity and
+// turned with this angular acceleration (body frame) until release_time_s.
+struct ScenarioHand {
+  double release_time_s = 0.0;
+  Eigen::Vector3d acceleration_mps2 = Eigen::Vector3d::Zero();
+  Eigen::Vector3d angular_acceleration_body_radps2 = Eigen::Vector3d::Zero();
+};
+
+// A bounce at time_s off a plane with this normal: the normal velocity reverses and is
+// scaled by the restitution, the spin is scaled by spin_kept.
+struct ScenarioImpact {
+  double time_s = 0.0;
+  Eigen::Vector3d normal_world = Eigen::Vector3d::UnitZ();
+  double restitution = 0.5;
+  double spin_kept = 0.6;
 };
 
 // One of several cameras filming the throw. Its frame i is exposed at world time
@@ -83,7 +117,12 @@ struct Scenario {
   std::vector<Occlusion> occlusions;
   int glints_per_frame = 0;          // spurious small bright spots at random places per frame
   VideoSettings video;
+  ScenarioAero aero;
+  std::optional<ScenarioHand> hand;
+  std::optional<ScenarioImpact> impact;
 
+  // The time of the launch state: the release when there is a hand phase, else 0.
+  double LaunchTimeS() const { return hand ? hand->release_time_s : 0.0; }
   bool SeveralCameras() const { return !cameras.empty(); }
   // The cameras the simulator films with: `cameras`, or the single `camera` named "camera"
   // on the world clock.
