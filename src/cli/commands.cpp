@@ -65,7 +65,14 @@ namespace {
 // The session's fit options with the command line's choices on top.
 FitOptions FitOptionsFor(const Session& session, const FitChoices& choices) {
   FitOptions options = tumbletrace::FitOptionsFor(session);
-  options.gravity_mode = choices.estimate_gravity ? GravityMode::kEstimate : GravityMode::kFixed;
+  if (choices.estimate_gravity) options.gravity_mode = GravityMode::kEstimate;
+  if (choices.drag) {
+    const std::map<std::string, DragChoice> drags = {{"auto", DragChoice::kAuto},
+                                                      {"none", DragChoice::kNone},
+                                                      {"quadratic", DragChoice::kQuadratic},
+                                                      {"quadratic+lift", DragChoice::kQuadraticLift}};
+    options.drag = drags.at(*choices.drag);  // CLI11 checked the name
+  }
   if (choices.first_frame) options.first_frame = choices.first_frame;
   if (choices.last_frame) options.last_frame = choices.last_frame;
   const std::map<std::string, RotationChoice> rotations = {
@@ -91,17 +98,17 @@ FitOptions FitOptionsFor(const Session& session, const FitChoices& choices) {
 }
 
 // results.json last: its presence says the run completed.
-void WriteFitOutputs(const FitResult& fit, const FlightSummary& summary,
-                     const Provenance& provenance, const std::filesystem::path& out_dir,
-                     const CommonOptions& common) {
+void WriteFitOutputs(const FlightAnalysis& flight, const Provenance& provenance,
+                     const std::filesystem::path& out_dir, const CommonOptions& common) {
   std::filesystem::create_directories(out_dir);
-  WriteFramesCsv(fit, summary, out_dir / "frames.csv");
-  WriteResidualsCsv(fit, out_dir / "residuals.csv");
-  WriteResultsJson(ResultsJson(fit, summary, provenance), out_dir / "results.json");
+  WriteFramesCsv(flight.fit, flight.summary, out_dir / "frames.csv", flight.diagnostics);
+  WriteResidualsCsv(flight.fit, out_dir / "residuals.csv");
+  WriteResultsJson(ResultsJson(flight.fit, flight.summary, provenance, flight.diagnostics),
+                   out_dir / "results.json");
   if (!common.quiet) {
-    std::cout << SummaryText(fit, summary);
+    std::cout << SummaryText(flight.fit, flight.summary, flight.diagnostics);
   } else {
-    for (const std::string& w : fit.warnings) std::cerr << "warning: " << w << "\n";
+    for (const std::string& w : flight.fit.warnings) std::cerr << "warning: " << w << "\n";
   }
 }
 
@@ -199,14 +206,15 @@ int RunFit(const FitCommandOptions& options, const CommonOptions& common) {
   FitOptions fit_options = FitOptionsFor(session, options.choices);
   fit_options.robust_loss_scale_px = options.robust_scale_px;
 
-  FitResult fit = FitFreeFlight(GroupByFrame(tracks, session.CaptureRates()), session.body,
-                                session.CameraModels(), fit_options);
+  FlightAnalysis flight = FitSession(GroupByFrame(tracks, session.CaptureRates()), session,
+                                     fit_options,
+                                     session.search_window && !options.choices.whole_clip);
   for (std::string& w : CamerasWithoutSightings(tracks, options.tracks, session)) {
-    fit.warnings.push_back(std::move(w));
+    flight.fit.warnings.push_back(std::move(w));
   }
   Provenance provenance = MakeProvenance(session, common);
   provenance.input_files.push_back(options.tracks);
-  WriteFitOutputs(fit, Summarise(fit, session.body), provenance, options.out_dir, common);
+  WriteFitOutputs(flight, provenance, options.out_dir, common);
   return 0;
 }
 
@@ -223,6 +231,7 @@ int RunTrack(const TrackCommandOptions& options, const CommonOptions& common) {
 
 int RunAnalyze(const AnalyzeOptions& options, const CommonOptions& common) {
   Session session = ReadSessionYaml(options.session);
+  if (options.choices.whole_clip) session.search_window = false;
   const FitOptions fit_options = FitOptionsFor(session, options.choices);
   const Analysis analysis =
       AnalyzeSession(session, TrackingOptions{}, fit_options, MakeProgress(common, "analysing"));
@@ -230,8 +239,7 @@ int RunAnalyze(const AnalyzeOptions& options, const CommonOptions& common) {
   std::filesystem::create_directories(options.out_dir);
   WriteTracksCsv(analysis.tracking.points, options.out_dir / "tracks.csv");
   if (!common.quiet) std::cout << TrackingSummary(analysis.tracking);
-  WriteFitOutputs(analysis.fit, analysis.summary, MakeProvenance(session, common), options.out_dir,
-                  common);
+  WriteFitOutputs(analysis.flight, MakeProvenance(session, common), options.out_dir, common);
   return 0;
 }
 

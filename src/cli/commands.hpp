@@ -19,6 +19,8 @@ struct FitChoices {
   bool inertia_from_parts = false;    // hold principal axes and moment ratios
   std::optional<int> first_frame;  // the free-flight window; the session's when absent
   std::optional<int> last_frame;
+  std::optional<std::string> drag;    // auto | none | quadratic | quadratic+lift (session's)
+  bool whole_clip = false;            // no window search: every frame
 };
 
 struct SimulateOptions {

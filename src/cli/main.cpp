@@ -18,7 +18,8 @@ constexpr const char* kDescription =
 
 void AddFitChoices(CLI::App* command, tumbletrace::cli::FitChoices* choices) {
   command->add_flag("--estimate-gravity", choices->estimate_gravity,
-                    "estimate all of g as a check of the camera's scale and the capture rate");
+                    "estimate all of g as a check of the camera's scale and the capture rate: a "
+                    "wrong rate or scale shows as a g off the session's, and is flagged");
   command->add_option("--rotation", choices->rotation,
                       "rotation model: constant-spin (a spin about a principal axis), symmetric "
                       "(two equal principal moments: a precessing symmetric top), free (three "
@@ -29,8 +30,18 @@ void AddFitChoices(CLI::App* command, tumbletrace::cli::FitChoices* choices) {
   command->add_flag("--inertia-from-parts", choices->inertia_from_parts,
                     "hold the principal axes and moment ratios at those of the body's parts "
                     "list instead of estimating them (free model)");
-  command->add_option("--first-frame", choices->first_frame, "first frame of the free-flight window");
-  command->add_option("--last-frame", choices->last_frame, "last frame of the free-flight window");
+  command->add_option("--drag", choices->drag,
+                      "the air: none (vacuum), quadratic (drag a = g - k |v| v), quadratic+lift "
+                      "(drag and a Magnus lift from the spin), or auto: each fitted and the one "
+                      "with the lowest BIC reported (default: the session's `drag`, else auto)")
+      ->check(CLI::IsMember({"auto", "none", "quadratic", "quadratic+lift"}));
+  command->add_option("--first-frame", choices->first_frame,
+                      "first frame of the free-flight window (default: found from the data)");
+  command->add_option("--last-frame", choices->last_frame,
+                      "last frame of the free-flight window (default: found from the data)");
+  command->add_flag("--whole-clip", choices->whole_clip,
+                    "fit every frame with markers instead of searching for the free flight "
+                    "(release to catch or impact)");
 }
 
 }  // namespace
@@ -53,9 +64,11 @@ int main(int argc, char** argv) {
   CLI::App* analyze_cmd = app.add_subcommand(
       "analyze",
       "The whole job: markers in the clip -> tracks -> identified markers -> free-flight fit; "
-      "writes results.json (CM in the body frame, launch state, spin, principal axes and "
-      "moment ratios when the body tumbles, all with uncertainty), "
-      "frames.csv, residuals.csv and tracks.csv, and prints a summary.");
+      "finds the free-flight frames (release to catch or impact), chooses the rotation and "
+      "drag models, and writes results.json (CM in the body frame, launch state, spin, "
+      "principal axes and moment ratios when the body tumbles, drag, all with uncertainty; "
+      "the window, break flags and residual checks), frames.csv, residuals.csv and "
+      "tracks.csv, and prints a summary.");
   analyze_cmd->add_option("session", analyze.session, "session YAML file")->required()->check(CLI::ExistingFile);
   analyze_cmd->add_option("-o,--out", analyze.out_dir, "output folder (created when missing)")->required();
   AddFitChoices(analyze_cmd, &analyze.choices);

@@ -235,7 +235,9 @@ FreeFlightWindow FindFreeFlightWindow(const std::vector<FrameSightings>& frames,
       "grown from the middle " + fmt::format("{:.0f}", 100 * options.core_fraction) +
       " % of the frames while each new chunk's chi-square, after refitting with it, stays within " +
       fmt::format("{:.0f}", options.refuse_sigma) +
-      " standard deviations of its expectation; each refused end located by a change-point "
+      " standard deviations of its expectation or its mean within " +
+      fmt::format("{:.1f}", options.refuse_variance_ratio) +
+      " times the noise variance; each refused end located by a change-point "
       "scan (the model before the break, a rigid deviation after it; 68 % profile-likelihood "
       "interval)";
 
@@ -276,7 +278,8 @@ FreeFlightWindow FindFreeFlightWindow(const std::vector<FrameSightings>& frames,
       }
       const double z = components > 0 ? (chi2 - components) / std::sqrt(2.0 * components) : 0.0;
       WindowEnd& end = at_end ? window.end : window.start;
-      if (z <= options.refuse_sigma) {
+      const double variance_ratio = components > 0 ? chi2 / components : 1.0;
+      if (z <= options.refuse_sigma || variance_ratio <= options.refuse_variance_ratio) {
         lo = new_lo;
         hi = new_hi;
         model = std::move(trial);

@@ -299,6 +299,47 @@ Session ReadSessionYaml(const std::filesystem::path& path) {
     }
     frames.Finish();
   }
+  if (map.Has("air")) {
+    YamlMap air = map.Map("air");
+    const auto positive = [&](const std::string& key, const std::string& expected) {
+      const std::optional<double> v = air.OptionalNumber(key, expected);
+      if (v && !(*v > 0)) air.Fail(key, expected);
+      return v;
+    };
+    session.air.density_kgpm3 = positive("density_kgpm3", "an air density in kg/m^3 (positive)");
+    session.air.temperature_c = air.OptionalNumber("temperature_c", "the air temperature in degC");
+    if (session.air.temperature_c && !(*session.air.temperature_c > -60 && *session.air.temperature_c < 60)) {
+      air.Fail("temperature_c", "an air temperature between -60 and 60 degC");
+    }
+    session.air.pressure_pa = positive("pressure_pa", "the air pressure in Pa (e.g. 101325)");
+    if (const auto rh = air.OptionalNumber("relative_humidity_percent", "0 to 100 %")) {
+      if (!(*rh >= 0 && *rh <= 100)) air.Fail("relative_humidity_percent", "0 to 100 %");
+      session.air.relative_humidity = *rh / 100.0;
+    }
+    if (const auto co2 = positive("co2_mole_fraction", "a CO2 mole fraction (e.g. 0.0004)")) {
+      session.air.co2_mole_fraction = *co2;
+    }
+    if (session.air.density_kgpm3 &&
+        (session.air.temperature_c || session.air.pressure_pa || session.air.relative_humidity)) {
+      air.Fail("density_kgpm3", "either density_kgpm3 or the conditions (temperature_c, "
+                                "pressure_pa, relative_humidity_percent), not both");
+    }
+    air.Finish();
+  }
+  if (const auto wind = map.OptionalVector3("wind_mps", "a steady wind [x, y, z] in m/s, world frame")) {
+    session.wind_world_mps = *wind;
+  }
+  if (const auto drag = map.OptionalString("drag", "auto, none, quadratic or quadratic+lift")) {
+    if (*drag != "auto" && *drag != "none" && *drag != "quadratic" && *drag != "quadratic+lift") {
+      map.Fail("drag", "auto, none, quadratic or quadratic+lift");
+    }
+    session.drag = *drag;
+  }
+  if (const auto window = map.OptionalString("window", "auto or all")) {
+    if (*window != "auto" && *window != "all") map.Fail("window", "auto (find the free flight) or all");
+    session.search_window = *window == "auto";
+  }
+  session.estimate_gravity = map.OptionalBoolean("estimate_gravity").value_or(false);
   session.estimate_time_offsets = map.OptionalBoolean("estimate_time_offsets").value_or(false);
   if (session.estimate_time_offsets && session.cameras.size() < 2) {
     map.Fail("estimate_time_offsets",
@@ -350,6 +391,16 @@ void WriteSessionYaml(const Session& session, const std::filesystem::path& path)
       out << "}\n";
     }
     if (session.estimate_time_offsets) out << "estimate_time_offsets: true\n";
+    if (session.air.density_kgpm3) {
+      out << fmt::format("air: {{density_kgpm3: {}}}\n", *session.air.density_kgpm3);
+    }
+    if (session.wind_world_mps.norm() > 0) {
+      out << fmt::format("wind_mps: [{}, {}, {}]\n", session.wind_world_mps.x(),
+                         session.wind_world_mps.y(), session.wind_world_mps.z());
+    }
+    if (session.drag != "auto") out << "drag: " << session.drag << "\n";
+    if (!session.search_window) out << "window: all\n";
+    if (session.estimate_gravity) out << "estimate_gravity: true\n";
   });
 }
 

@@ -2,6 +2,8 @@
 
 #include <fmt/format.h>
 
+#include <map>
+
 #include <memory>
 
 #include "tumbletrace/core/error.hpp"
@@ -88,7 +90,44 @@ FitOptions FitOptionsFor(const Session& session) {
   options.last_frame = session.last_frame;
   options.time_offsets_s = session.TimeOffsets();
   options.estimate_time_offsets = session.estimate_time_offsets;
+  options.wind_world_mps = session.wind_world_mps;
+  const std::map<std::string, DragChoice> drags = {{"auto", DragChoice::kAuto},
+                                                    {"none", DragChoice::kNone},
+                                                    {"quadratic", DragChoice::kQuadratic},
+                                                    {"quadratic+lift", DragChoice::kQuadraticLift}};
+  options.drag = drags.at(session.drag);
+  if (session.estimate_gravity) options.gravity_mode = GravityMode::kEstimate;
   return options;
+}
+
+FlightAnalysis FitSession(const std::vector<FrameSightings>& frames, const Session& session,
+                          FitOptions options, bool search_window) {
+  FlightAnalysis out;
+  const std::vector<Camera> cameras = session.CameraModels();
+  if (search_window && !options.first_frame && !options.last_frame) {
+    out.window = FindFreeFlightWindow(frames, session.body, cameras, options);
+    options.first_frame = out.window.start.frame;
+    options.last_frame = out.window.end.frame;
+  }
+  out.fit = FitFreeFlight(frames, session.body, cameras, options);
+  if (!out.window.detected) {
+    out.window.start.frame = out.fit.first_frame;
+    out.window.end.frame = out.fit.last_frame;
+    out.window.criterion = options.first_frame || options.last_frame
+                               ? "given (the session's frames or --first-frame/--last-frame)"
+                               : "every frame with markers (window: all)";
+  }
+  out.summary = Summarise(out.fit, session.body, session.air);
+  DiagnoseOptions diagnose;
+  diagnose.expected_gravity_mps2 = options.gravity_world_mps2;
+  out.diagnostics = Diagnose(out.fit, out.window, session.body, cameras, diagnose);
+  for (const BreakFlag& flag : out.diagnostics.flags) {
+    if (flag.kind == "gravity" || flag.kind == "correlated-residuals" || flag.kind == "marker" ||
+        flag.kind == "frames") {
+      out.fit.warnings.push_back(flag.sentence);
+    }
+  }
+  return out;
 }
 
 TrackingResult TrackClip(const Session& session, const TrackingOptions& options,
@@ -127,10 +166,9 @@ Analysis AnalyzeSession(const Session& session, const TrackingOptions& tracking,
                         const FitOptions& fit, const Progress& progress) {
   Analysis analysis;
   analysis.tracking = TrackClip(session, tracking, progress);
-  analysis.fit = FitFreeFlight(GroupByFrame(analysis.tracking.points, session.CaptureRates()),
-                               session.body, session.CameraModels(), fit);
-  for (const std::string& w : analysis.tracking.warnings) analysis.fit.warnings.push_back(w);
-  analysis.summary = Summarise(analysis.fit, session.body);
+  analysis.flight = FitSession(GroupByFrame(analysis.tracking.points, session.CaptureRates()),
+                               session, fit, session.search_window);
+  for (const std::string& w : analysis.tracking.warnings) analysis.flight.fit.warnings.push_back(w);
   return analysis;
 }
 

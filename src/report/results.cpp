@@ -41,9 +41,38 @@ std::string Num(const std::optional<double>& v, double scale, int decimals) {
   return v ? fmt::format("{:.{}f}", *v * scale, decimals) : std::string("undetermined");
 }
 
+json WindowEndJson(const WindowEnd& end, bool detected) {
+  return {{"frame", end.frame},
+          {"sigma_frames", detected && !end.clip_edge ? json(end.sigma_frames) : json(nullptr)},
+          {"clip_edge", end.clip_edge},
+          {"velocity_jump", detected && !end.clip_edge ? json(end.velocity_jump) : json(nullptr)},
+          {"sentence", end.sentence}};
+}
+
+json DragJson(const DragSummary& d) {
+  return {{"model", TranslationModelName(d.model)},
+          {"reason", d.reason},
+          {"k_per_m", Maybe(d.k_per_m)},
+          {"sigma_k_per_m", Maybe(d.sigma_k_per_m)},
+          {"k_lift", Maybe(d.k_lift)},
+          {"sigma_k_lift", Maybe(d.sigma_k_lift)},
+          {"cd", Maybe(d.cd)},
+          {"sigma_cd", Maybe(d.sigma_cd)},
+          {"cl_at_launch", Maybe(d.cl_at_launch)},
+          {"sigma_cl_at_launch", Maybe(d.sigma_cl_at_launch)},
+          {"reynolds_at_launch", Maybe(d.reynolds_at_launch)},
+          {"spin_ratio_at_launch", Maybe(d.spin_ratio_at_launch)},
+          {"air_density_kgpm3", d.air_density_kgpm3},
+          {"air_viscosity_pas", d.air_viscosity_pas},
+          {"air", d.air},
+          {"wind_world_mps", Vec(d.wind_world_mps)},
+          {"notes", d.notes}};
+}
+
 }  // namespace
 
-json ResultsJson(const FitResult& fit, const FlightSummary& s, const Provenance& provenance) {
+json ResultsJson(const FitResult& fit, const FlightSummary& s, const Provenance& provenance,
+                 const Diagnostics& diagnostics) {
   json j;
   j["tool"] = {{"name", "tumbletrace"}, {"version", provenance.tool_version}};
   json inputs = json::array();
@@ -95,8 +124,17 @@ json ResultsJson(const FitResult& fit, const FlightSummary& s, const Provenance&
       {"interval95_rate_rev_per_s", {s.rate_rev_per_s - kZ95 * s.sigma_rate_rev_per_s,
                                      s.rate_rev_per_s + kZ95 * s.sigma_rate_rev_per_s}},
       {"rate_rpm", 60.0 * s.rate_rev_per_s}};
-  j["window"] = {{"first_frame", fit.first_frame}, {"last_frame", fit.last_frame},
-                 {"frames_used", fit.frames_used}};
+  {
+    const FreeFlightWindow& w = diagnostics.window;
+    j["window"] = {{"first_frame", fit.first_frame},
+                   {"last_frame", fit.last_frame},
+                   {"frames_used", fit.frames_used},
+                   {"detected", w.detected},
+                   {"criterion", w.criterion},
+                   {"start", WindowEndJson(w.start, w.detected)},
+                   {"end", WindowEndJson(w.end, w.detected)},
+                   {"search_fits", w.fits}};
+  }
   {
     json trials = json::array();
     for (const FitResult::ModelTrial& t : fit.model_trials) {
@@ -159,10 +197,62 @@ json ResultsJson(const FitResult& fit, const FlightSummary& s, const Provenance&
     }
     j["cameras"] = cameras;
   }
-  j["drag"] = {{"model", "none"}, {"k_per_m", nullptr}, {"sigma_k_per_m", nullptr}};
+  {
+    json drag = DragJson(s.drag);
+    json trials = json::array();
+    for (const FitResult::TranslationTrial& t : fit.translation_trials) {
+      trials.push_back({{"model", TranslationModelName(t.model)},
+                        {"parameters", t.parameters},
+                        {"sum_sq_px2", t.sum_sq_px2},
+                        {"bic", t.bic},
+                        {"converged", t.converged}});
+    }
+    drag["criterion"] = fit.translation_trials.empty() ? "asked for" : "BIC";
+    drag["models_tried"] = trials;
+    j["drag"] = drag;
+  }
   j["gravity"] = {{"world_mps2", Vec(s.gravity_world_mps2)},
                   {"estimated", s.sigma_gravity_mps2.has_value()},
                   {"sigma_mps2", s.sigma_gravity_mps2 ? Vec(*s.sigma_gravity_mps2) : json(nullptr)}};
+  {
+    const GravityCheck& g = diagnostics.gravity;
+    j["gravity"]["check"] =
+        g.performed ? json{{"expected_mps2", g.expected_mps2},
+                           {"estimated_mps2", g.estimated_mps2},
+                           {"sigma_mps2", g.sigma_mps2},
+                           {"z", g.z},
+                           {"ratio", g.ratio},
+                           {"implied_capture_fps_factor", g.implied_capture_fps_factor},
+                           {"flagged", g.flagged},
+                           {"sentence", g.sentence}}
+                    : json(nullptr);
+  }
+  {
+    json markers = json::array();
+    for (const MarkerDiagnostics& m : diagnostics.markers) {
+      markers.push_back({{"marker", m.marker_id}, {"sightings", m.sightings},
+                         {"outliers", m.outliers}, {"rms_px", m.rms_px}, {"max_px", m.max_px}});
+    }
+    json flags = json::array();
+    for (const BreakFlag& f : diagnostics.flags) {
+      flags.push_back({{"kind", f.kind},
+                       {"first_frame", f.first_frame ? json(*f.first_frame) : json(nullptr)},
+                       {"last_frame", f.last_frame ? json(*f.last_frame) : json(nullptr)},
+                       {"sentence", f.sentence}});
+    }
+    const RunsTest& r = diagnostics.runs;
+    j["diagnostics"] = {
+        {"flags", flags},
+        {"per_marker", markers},
+        {"runs_test", {{"runs", r.runs},
+                       {"expected_runs", r.expected_runs},
+                       {"z", r.z},
+                       {"lag1_autocorrelation", r.lag1_autocorrelation},
+                       {"variance_factor", r.variance_factor},
+                       {"white", r.white},
+                       {"sentence", r.sentence}}},
+        {"acceleration_smoothing_frames", diagnostics.acceleration_smoothing_frames}};
+  }
   j["fit"] = {{"converged", fit.converged},
               {"rms_px", fit.rms_px},
               {"sigma_px", fit.sigma_px},
@@ -170,7 +260,12 @@ json ResultsJson(const FitResult& fit, const FlightSummary& s, const Provenance&
               {"outliers", fit.outliers},
               {"degrees_of_freedom", fit.degrees_of_freedom},
               {"iterations", fit.iterations},
-              {"model", std::string("ballistic + ") + RotationModelName(s.rotation_model)},
+              {"model", std::string(s.drag.model == TranslationModel::kVacuum
+                                        ? "ballistic"
+                                        : s.drag.model == TranslationModel::kDrag
+                                              ? "ballistic with quadratic drag"
+                                              : "ballistic with quadratic drag and lift") +
+                            " + " + RotationModelName(s.rotation_model)},
               {"t0_s", fit.parameters.t0_s},
               {"solve_s", fit.solve_seconds},
               {"termination", fit.termination}};
@@ -183,7 +278,9 @@ void WriteResultsJson(const nlohmann::json& results, const std::filesystem::path
 }
 
 void WriteFramesCsv(const FitResult& fit, const FlightSummary& s,
-                    const std::filesystem::path& path) {
+                    const std::filesystem::path& path, const Diagnostics& diagnostics) {
+  std::map<int, const FrameDiagnostics*> measured;
+  for (const FrameDiagnostics& f : diagnostics.frames) measured[f.frame] = &f;
   // Per-frame rms of the inlier residuals, and the frames' times.
   std::map<int, std::pair<double, int>> sum_sq;
   std::map<int, double> times;
@@ -196,7 +293,9 @@ void WriteFramesCsv(const FitResult& fit, const FlightSummary& s,
   const FlightParameters& p = fit.parameters;
   WriteFileAtomically(path, [&](std::ostream& out) {
     out << "frame,time_s,cm_x_m,cm_y_m,cm_z_m,v_x_mps,v_y_mps,v_z_mps,"
-           "q_w,q_x,q_y,q_z,omega_x_radps,omega_y_radps,omega_z_radps,rms_px,markers\n";
+           "q_w,q_x,q_y,q_z,omega_x_radps,omega_y_radps,omega_z_radps,rms_px,markers,"
+           "cm_measured_x_m,cm_measured_y_m,cm_measured_z_m,accel_residual_x_mps2,"
+           "accel_residual_y_mps2,accel_residual_z_mps2\n";
     for (const auto& [frame, t] : times) {
       const Eigen::Vector3d r = p.PositionAt(t), v = p.VelocityAt(t), w = p.OmegaWorldAt(t);
       const Eigen::Matrix3d rot = p.WorldFromBodyAt(t);
@@ -216,7 +315,19 @@ void WriteFramesCsv(const FitResult& fit, const FlightSummary& s,
       const int n = it == sum_sq.end() ? 0 : it->second.second;
       out << ',' << (n > 0 ? fmt::format("{:.6f}", std::sqrt(it->second.first / (2.0 * n)))
                            : std::string())
-          << ',' << n << '\n';
+          << ',' << n;
+      // The frame's own CM and the acceleration residual against vacuum (empty where the
+      // frame alone cannot give them).
+      const auto m = measured.find(frame);
+      for (int k = 0; k < 2; ++k) {
+        const std::optional<Eigen::Vector3d> value =
+            m == measured.end() ? std::nullopt
+                                : (k == 0 ? m->second->cm_world_m : m->second->accel_residual_mps2);
+        for (int i = 0; i < 3; ++i) {
+          out << ',' << (value ? fmt::format("{:.9g}", (*value)[i]) : std::string());
+        }
+      }
+      out << '\n';
     }
   });
 }
@@ -232,8 +343,14 @@ void WriteResidualsCsv(const FitResult& fit, const std::filesystem::path& path) 
   });
 }
 
-std::string SummaryText(const FitResult& fit, const FlightSummary& s) {
+std::string SummaryText(const FitResult& fit, const FlightSummary& s,
+                        const Diagnostics& diagnostics) {
   std::ostringstream out;
+  const FreeFlightWindow& w = diagnostics.window;
+  if (w.detected) {
+    out << fmt::format("Free flight found in frames {}-{} ({} model fits):\n  {}\n  {}\n",
+                       w.start.frame, w.end.frame, w.fits, w.start.sentence, w.end.sentence);
+  }
   out << fmt::format("Free-flight fit of frames {}-{} ({} frames, {} sightings, {} outliers): "
                      "rms {:.3f} px, {}\n",
                      fit.first_frame, fit.last_frame, fit.frames_used, fit.observations,
@@ -299,6 +416,32 @@ std::string SummaryText(const FitResult& fit, const FlightSummary& s) {
     out << fmt::format(", rotational {:.3f} J/kg (parts-list inertia)", *s.rotational_energy_per_mass_jpkg);
   }
   out << "\n";
+  {
+    const DragSummary& d = s.drag;
+    if (d.model == TranslationModel::kVacuum) {
+      out << fmt::format("Air: vacuum model{}\n", d.reason.empty() ? "" : " (" + d.reason + ")");
+    } else {
+      out << fmt::format("Air: {} model ({})\n  k = {:.5f} +/- {:.5f} 1/m", TranslationModelName(d.model),
+                         d.reason, *d.k_per_m, *d.sigma_k_per_m);
+      if (d.cd) out << fmt::format(", C_d = {:.3f} +/- {:.3f}", *d.cd, *d.sigma_cd);
+      if (d.reynolds_at_launch) out << fmt::format(", Re = {:.3g} at launch", *d.reynolds_at_launch);
+      out << "\n";
+      if (d.k_lift) {
+        out << fmt::format("  k_L = {:.5f} +/- {:.5f}", *d.k_lift, *d.sigma_k_lift);
+        if (d.cl_at_launch) out << fmt::format(", C_L = {:.3f} +/- {:.3f} at launch", *d.cl_at_launch, *d.sigma_cl_at_launch);
+        out << "\n";
+      }
+      out << "  air: " << d.air << "\n";
+      for (const std::string& note : d.notes) out << "  " << note << "\n";
+    }
+  }
+  // (a flagged check or test is among the warnings below)
+  if (diagnostics.gravity.performed && !diagnostics.gravity.flagged) {
+    out << "Gravity check: " << diagnostics.gravity.sentence << "\n";
+  }
+  if (!diagnostics.markers.empty() && diagnostics.runs.white) {
+    out << "Residuals: " << diagnostics.runs.sentence << "\n";
+  }
   if (s.rms_px_per_camera.size() > 1) {
     for (size_t k = 0; k < s.rms_px_per_camera.size(); ++k) {
       out << fmt::format("Camera {}: rms {:.3f} px, clock offset {:.3f} ms", k,

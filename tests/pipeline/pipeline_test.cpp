@@ -77,7 +77,7 @@ void ExpectGoodRun(const ClipRun& run, double max_centre_rms_px = 0.15) {
   EXPECT_LT(rms, max_centre_rms_px);
   EXPECT_LE(disturbed, n / 100);
 
-  const FlightSummary& s = run.analysis.summary;
+  const FlightSummary& s = run.analysis.flight.summary;
   const Eigen::Vector3d& cm = run.sim.mass.cm_body_m;
   for (int i = 0; i < 2; ++i) {
     ASSERT_TRUE(s.cm_body_m[i].has_value());
@@ -113,7 +113,7 @@ TEST(Pipeline, FlippingPaddleClipWithDotsTurningAway) {
   Scenario s = ClipScenario(testing::FlipScenario(0.0, 44));
   s.video.image_folder = true;
   const ClipRun run = SimulateWriteAnalyze(s, dir.path());
-  const FlightSummary& summary = run.analysis.summary;
+  const FlightSummary& summary = run.analysis.flight.summary;
   // A label is right when its marker's true projection is within 1.5 px (a dot at a grazing
   // angle can still show while its truth flag says it has turned away).
   int identified = 0, wrong = 0;
@@ -189,7 +189,7 @@ TEST(Pipeline, ImageSequenceWithAMissingFrameIsReported) {
   const auto& missing = run.analysis.tracking.cameras.at(0).clip.missing_frames;
   ASSERT_EQ(missing, std::vector<int>{137});
   bool warned = false;
-  for (const std::string& w : run.analysis.fit.warnings) warned |= w.find("137") != std::string::npos;
+  for (const std::string& w : run.analysis.flight.fit.warnings) warned |= w.find("137") != std::string::npos;
   EXPECT_TRUE(warned);
 }
 
@@ -275,13 +275,13 @@ TEST(Pipeline, TwoCamerasWithAKnownClockOffset) {
   EXPECT_EQ(tracking.cameras[1].clip.missing_frames, std::vector<int>{57});
   // The missing frame is warned of, with the camera's name.
   bool warned = false;
-  for (const std::string& w : run.analysis.fit.warnings) {
+  for (const std::string& w : run.analysis.flight.fit.warnings) {
     warned |= w.rfind("side: ", 0) == 0 && w.find("57") != std::string::npos;
   }
   EXPECT_TRUE(warned);
   ExpectGoodRun(run, 0.1);  // lossless frames
 
-  const FitResult& fit = run.analysis.fit;
+  const FitResult& fit = run.analysis.flight.fit;
   ASSERT_EQ(fit.rms_px_per_camera.size(), 2u);
   for (double rms_px : fit.rms_px_per_camera) {
     EXPECT_GT(rms_px, 0.0);

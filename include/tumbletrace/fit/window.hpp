@@ -6,7 +6,10 @@
 // 2. the window grows outwards in chunks while each new chunk agrees with the model refitted
 //    with it: the chunk's squared residuals, in units of the fit's noise (each sighting's
 //    capped at 25, so one misidentified marker cannot stop the growth), sum to no more
-//    than 4 standard deviations above their expected chi-square;
+//    than 4 standard deviations above their expected chi-square, or their mean is no more
+//    than twice the noise variance (compressed video leaves residuals correlated in time,
+//    whose chi-square exceeds the independent-noise bound without any break; a break
+//    worth cutting raises the residuals well above the noise within a few frames);
 // 3. at an end where a chunk was refused, the break is located by a change-point scan over
 //    the frames around it: for each candidate last free frame b, the frames up to b are
 //    scored against the model and the frames after it against the model plus a rigid
@@ -49,7 +52,8 @@ struct WindowSearchOptions {
   double core_fraction = 0.4;     // of the frames with sightings, in the middle
   int min_chunk_frames = 8;
   double chunk_fraction = 0.25;   // of the current window
-  double refuse_sigma = 4.0;      // a chunk's chi-square excess that stops the growth
+  double refuse_sigma = 4.0;      // a chunk's chi-square excess that stops the growth ...
+  double refuse_variance_ratio = 2.0;  // ... when its mean also exceeds this (noise units)
   double capped_chi2 = 25.0;      // per sighting, in noise units
   int scan_inside_frames = 10;    // frames inside the grown window the scan reconsiders
   int scan_outside_frames = 15;   // frames beyond it

@@ -8,6 +8,7 @@
 #include <string>
 #include <vector>
 
+#include "tumbletrace/model/air.hpp"
 #include "tumbletrace/model/body.hpp"
 #include "tumbletrace/model/camera.hpp"
 
@@ -66,6 +67,16 @@ struct Session {
   std::optional<int> last_frame;
   // Estimate every camera's clock offset relative to the first camera's in the fit.
   bool estimate_time_offsets = false;
+  // The air (`air:`), a steady wind (`wind_mps:`), the drag models to try (`drag:` auto,
+  // none, quadratic, quadratic+lift).
+  AirSpec air;
+  Eigen::Vector3d wind_world_mps = Eigen::Vector3d::Zero();
+  std::string drag = "auto";
+  // `window: auto` (default) finds the free-flight frames unless `frames` gives them;
+  // `window: all` fits every frame read.
+  bool search_window = true;
+  // `estimate_gravity: true`: g is estimated, as a check of the capture rate and scale.
+  bool estimate_gravity = false;
 
   // Per camera, in the order of `cameras`.
   std::vector<double> CaptureRates() const;

@@ -9,8 +9,10 @@
 
 #include "tumbletrace/clip/frame_source.hpp"
 #include "tumbletrace/detect/marker_detector.hpp"
+#include "tumbletrace/diagnose/diagnostics.hpp"
 #include "tumbletrace/fit/free_flight_fit.hpp"
 #include "tumbletrace/fit/summary.hpp"
+#include "tumbletrace/fit/window.hpp"
 #include "tumbletrace/identify/identify.hpp"
 #include "tumbletrace/model/session.hpp"
 #include "tumbletrace/track/tracker.hpp"
@@ -50,13 +52,25 @@ using Progress = std::function<void(int done, int total)>;
 TrackingResult TrackClip(const Session& session, const TrackingOptions& options,
                          const Progress& progress);
 
-struct Analysis {
-  TrackingResult tracking;
+// The fit of one throw with what is derived from it.
+struct FlightAnalysis {
+  FreeFlightWindow window;   // found, or as given
   FitResult fit;
   FlightSummary summary;
+  Diagnostics diagnostics;
 };
 
-// TrackClip, then the free-flight fit of the identified tracks of every camera (each camera's
+// The window (searched for unless `options` gives one or `search_window` is false), the fit
+// over it, its summary and the diagnostics; warnings of the diagnostics join the fit's.
+FlightAnalysis FitSession(const std::vector<FrameSightings>& frames, const Session& session,
+                          FitOptions options, bool search_window);
+
+struct Analysis {
+  TrackingResult tracking;
+  FlightAnalysis flight;
+};
+
+// TrackClip, then FitSession over the identified tracks of every camera (each camera's
 // frames timed by its own capture rate). Warnings of the tracking stages are added to the
 // fit's.
 Analysis AnalyzeSession(const Session& session, const TrackingOptions& tracking,

@@ -8,6 +8,7 @@
 #include <string>
 #include <vector>
 
+#include "tumbletrace/diagnose/diagnostics.hpp"
 #include "tumbletrace/fit/free_flight_fit.hpp"
 #include "tumbletrace/fit/summary.hpp"
 
@@ -21,18 +22,24 @@ struct Provenance {
   double capture_fps = 0.0;
 };
 
+// `diagnostics` adds the window's search, the break flags, the residual tests and the
+// gravity check (empty: a fit with no diagnostics, as in some tests).
 nlohmann::json ResultsJson(const FitResult& fit, const FlightSummary& summary,
-                           const Provenance& provenance);
+                           const Provenance& provenance,
+                           const Diagnostics& diagnostics = Diagnostics{});
 
 void WriteResultsJson(const nlohmann::json& results, const std::filesystem::path& path);
 // frames.csv: per frame of the window, the fitted CM position and velocity, orientation,
-// angular velocity and the reprojection rms of that frame's inlier sightings.
+// angular velocity and the reprojection rms of that frame's inlier sightings; with the
+// diagnostics, the CM measured from the frame alone and its acceleration residual.
 void WriteFramesCsv(const FitResult& fit, const FlightSummary& summary,
-                    const std::filesystem::path& path);
+                    const std::filesystem::path& path,
+                    const Diagnostics& diagnostics = Diagnostics{});
 // residuals.csv: per sighting, observed and residual pixels and the outlier flag.
 void WriteResidualsCsv(const FitResult& fit, const std::filesystem::path& path);
 
 // The short plain-text summary printed by `fit` and `analyze`, with units.
-std::string SummaryText(const FitResult& fit, const FlightSummary& summary);
+std::string SummaryText(const FitResult& fit, const FlightSummary& summary,
+                        const Diagnostics& diagnostics = Diagnostics{});
 
 }  // namespace tumbletrace
