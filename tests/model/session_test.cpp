@@ -175,6 +175,39 @@ TEST_F(SessionFileTest, ReadsEveryOptionalSetting) {
   EXPECT_EQ(session.last_frame, 450);
 }
 
+TEST_F(SessionFileTest, ReadsTheAirWindDragWindowAndGravityCheck) {
+  const Session session = ReadSessionYaml(WriteSession(
+      "air: {temperature_c: 20, pressure_pa: 101325, relative_humidity_percent: 50}\n"
+      "wind_mps: [1.5, 0, 0]\n"
+      "drag: quadratic+lift\n"
+      "window: all\n"
+      "estimate_gravity: true\n"));
+  EXPECT_NEAR(session.air.Density(), AirDensityCipm2007(20, 101325, 0.5), 1e-12);
+  EXPECT_EQ(session.wind_world_mps, Eigen::Vector3d(1.5, 0, 0));
+  EXPECT_EQ(session.drag, "quadratic+lift");
+  EXPECT_FALSE(session.search_window);
+  EXPECT_TRUE(session.estimate_gravity);
+  const Session plain = ReadSessionYaml(WriteSession(""));
+  EXPECT_EQ(plain.drag, "auto");
+  EXPECT_TRUE(plain.search_window);
+  EXPECT_FALSE(plain.estimate_gravity);
+  EXPECT_FALSE(plain.air.Stated());
+}
+
+TEST_F(SessionFileTest, BadAirAndDragAreNamed) {
+  EXPECT_EQ(ErrorReading("drag: linear\n").rfind(
+                "session.yaml:5: key 'drag': expected auto, none, quadratic or quadratic+lift, got 'linear'", 0),
+            0u)
+      << ErrorReading("drag: linear\n");
+  EXPECT_NE(ErrorReading("air: {density_kgpm3: 1.2, temperature_c: 20}\n")
+                .find("either density_kgpm3 or the conditions"),
+            std::string::npos);
+  EXPECT_NE(ErrorReading("air: {relative_humidity_percent: 120}\n").find("0 to 100 %"),
+            std::string::npos);
+  EXPECT_NE(ErrorReading("window: some\n").find("auto (find the free flight) or all"),
+            std::string::npos);
+}
+
 TEST_F(SessionFileTest, GravityAsAMagnitude) {
   const Session session = ReadSessionYaml(WriteSession("gravity_mps2: 9.81\n"));
   EXPECT_FALSE(session.gravity.WorldVector().has_value());

@@ -7,6 +7,7 @@
 
 #include <fstream>
 
+#include "support/air_scenarios.hpp"
 #include "support/scenarios.hpp"
 #include "support/tumble_scenarios.hpp"
 #include "tumbletrace/model/mass_properties.hpp"
@@ -100,6 +101,22 @@ TEST(Pipeline, PlanarSpinClipWithBlurAndNoise) {
   const ClipRun run = SimulateWriteAnalyze(ClipScenario(testing::PlanarSpinScenario(0.0, 41)), dir.path());
   ExpectGoodRun(run);
   EXPECT_EQ(run.analysis.tracking.cameras.at(0).identification.marker_of_track.size(), 6u);
+}
+
+// A clip that holds the hand's push before release and the bounce off a net after it: the
+// window is found within 2 frames of the truth (45 to 204) at both ends, from the clip
+// alone, and the CM, launch and spin meet the usual bounds.
+TEST(Pipeline, HandBeforeReleaseAndNetAfterInAClip) {
+  testing::TempDir dir("pipeline_hand_net");
+  const ClipRun run = SimulateWriteAnalyze(ClipScenario(testing::HandAndNetScenario(0.0, 45)), dir.path());
+  const FreeFlightWindow& window = run.analysis.flight.window;
+  std::printf("window %d (+/- %.1f) to %d (+/- %.1f); truth 45 to 204\n", window.start.frame,
+              window.start.sigma_frames, window.end.frame, window.end.sigma_frames);
+  EXPECT_TRUE(window.detected);
+  EXPECT_NEAR(window.start.frame, 45, 2);
+  EXPECT_NEAR(window.end.frame, 204, 2);
+  EXPECT_EQ(run.analysis.flight.summary.launch_frame, window.start.frame);
+  ExpectGoodRun(run);
 }
 
 // A tumbling paddle whose flat dots, on both faces, turn away from the camera and come back

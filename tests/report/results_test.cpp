@@ -13,8 +13,10 @@
 #include <string>
 #include <vector>
 
+#include "support/air_scenarios.hpp"
 #include "support/fit_helpers.hpp"
 #include "support/scenarios.hpp"
+#include "support/temp_dir.hpp"
 #include "support/tumble_scenarios.hpp"
 
 namespace tumbletrace {
@@ -394,6 +396,60 @@ TEST(ResultsJsonTumble, RotationInertiaEnergyAndCameraKeys) {
   ASSERT_EQ(j.at("cameras").size(), 1u);
   EXPECT_NEAR(j["cameras"][0].at("rms_px").get<double>(), 0.2, 0.03);
   EXPECT_EQ(j.at("fit").at("model"), "ballistic + free");
+}
+
+// The light ball through air: the drag keys with numbers (k, C_d from the mass and area,
+// the Reynolds number from the diameter), the models tried, and the diagnostics' keys.
+TEST(ResultsJsonAir, DragWindowAndDiagnosticsKeys) {
+  const Scenario s = testing::FoamBallScenario(0.2, 5);
+  FitOptions options = testing::DefaultFitOptions(s);
+  options.rotation = RotationChoice::kConstantSpin;
+  testing::Recovery r = testing::SimulateAndFit(s, options);
+  AirSpec air;
+  air.temperature_c = 20;
+  air.pressure_pa = 101325;
+  air.relative_humidity = 0.5;
+  r.summary = Summarise(r.fit, s.body, air);
+  DiagnoseOptions diagnose;
+  diagnose.expected_gravity_mps2 = s.gravity_world_mps2;
+  const Diagnostics diagnostics = Diagnose(r.fit, FreeFlightWindow{}, s.body, {s.camera}, diagnose);
+  const nlohmann::json j = ResultsJson(r.fit, r.summary, Provenance{}, diagnostics);
+  const nlohmann::json& drag = j.at("drag");
+  EXPECT_NE(drag.at("model"), "none");
+  EXPECT_EQ(drag.at("criterion"), "BIC");
+  ASSERT_EQ(drag.at("models_tried").size(), 3u);
+  EXPECT_TRUE(drag.at("k_per_m").is_number());
+  EXPECT_GT(drag.at("sigma_k_per_m").get<double>(), 0.0);
+  EXPECT_TRUE(drag.at("cd").is_number());
+  EXPECT_TRUE(drag.at("sigma_cd").is_number());
+  EXPECT_TRUE(drag.at("reynolds_at_launch").is_number());
+  EXPECT_NEAR(drag.at("air_density_kgpm3").get<double>(), AirDensityCipm2007(20, 101325, 0.5), 1e-12);
+  EXPECT_NE(drag.at("air").get<std::string>().find("CIPM-2007"), std::string::npos);
+  EXPECT_NE(j.at("fit").at("model").get<std::string>().find("drag"), std::string::npos);
+
+  const nlohmann::json& window = j.at("window");
+  EXPECT_FALSE(window.at("detected").get<bool>());
+  ASSERT_TRUE(window.at("start").is_object());
+  const nlohmann::json& d = j.at("diagnostics");
+  ASSERT_TRUE(d.at("flags").is_array());
+  bool air_flag = false;
+  for (const auto& flag : d["flags"]) {
+    EXPECT_TRUE(flag.at("sentence").is_string());
+    air_flag |= flag.at("kind") == "air";
+  }
+  EXPECT_TRUE(air_flag);
+  EXPECT_EQ(d.at("per_marker").size(), s.body.markers.size());
+  EXPECT_TRUE(d.at("runs_test").at("z").is_number());
+  EXPECT_TRUE(j.at("gravity").at("check").is_null());  // gravity held: no check
+
+  // frames.csv carries the measured CM and the acceleration residual.
+  testing::TempDir dir("results_air");
+  WriteFramesCsv(r.fit, r.summary, dir.path() / "frames.csv", diagnostics);
+  std::ifstream in(dir.path() / "frames.csv");
+  std::string header;
+  std::getline(in, header);
+  EXPECT_NE(header.find("accel_residual_x_mps2"), std::string::npos);
+  EXPECT_NE(header.find("cm_measured_z_m"), std::string::npos);
 }
 
 }  // namespace

@@ -1,9 +1,13 @@
 // The simulator's integrator: the invariants of torque-free motion (any mechanics text:
 // energy E = w.Iw/2 and the world angular momentum L = R I w are conserved) and the
-// ballistic path of the CM.
+// ballistic path of the CM; and the phases of a throw (hand, free flight, bounce).
 #include "tumbletrace/sim/motion.hpp"
 
 #include <gtest/gtest.h>
+
+#include "support/air_scenarios.hpp"
+#include "tumbletrace/model/mass_properties.hpp"
+#include "tumbletrace/sim/flight_phases.hpp"
 
 namespace tumbletrace {
 namespace {
@@ -47,6 +51,39 @@ TEST(RigidBodyIntegrator, BackwardThenForwardReturnsToTheStart) {
   const RigidState back = integrator.Advance(integrator.Advance(s, -0.01), 0.01);
   EXPECT_LT((back.omega_body_radps - s.omega_body_radps).norm(), 1e-10);
   EXPECT_LT(back.world_from_body.angularDistance(s.world_from_body), 1e-10);
+}
+
+// The phases of a throw: the state is continuous across the release (only the forces
+// change there); at the impact the normal velocity reverses and shrinks by the
+// restitution, the tangential velocity is kept and the spin is scaled; crossing the
+// impact backwards undoes it.
+TEST(FlightPhases, ReleaseIsContinuousAndTheBounceReversesTheNormalVelocity) {
+  Scenario s = testing::HandAndNetScenario(0.0, 1);
+  const MassProperties mass = CombineParts(s.body.parts);
+  const FlightPhases phases(s, mass);
+  RigidState launch;
+  launch.cm_world_m = s.launch_cm_world_m;
+  launch.velocity_world_mps = s.launch_velocity_world_mps;
+  launch.world_from_body = s.launch_world_from_body;
+  launch.omega_body_radps = s.launch_omega_body_radps;
+  const double release = s.hand->release_time_s, impact = s.impact->time_s;
+  const RigidState before = phases.Advance(launch, release, release - 1e-7);
+  const RigidState after = phases.Advance(launch, release, release + 1e-7);
+  EXPECT_LT((before.velocity_world_mps - after.velocity_world_mps).norm(), 1e-4);
+  // Before release the hand's push: the velocity 10 ms earlier differs by (g + a) 10 ms.
+  const RigidState held = phases.Advance(launch, release, release - 0.01);
+  const Eigen::Vector3d expected =
+      launch.velocity_world_mps - 0.01 * (s.gravity_world_mps2 + s.hand->acceleration_mps2);
+  EXPECT_LT((held.velocity_world_mps - expected).norm(), 1e-9);
+  const RigidState in = phases.Advance(launch, release, impact - 1e-9);
+  const RigidState out = phases.Advance(launch, release, impact + 1e-9);
+  const Eigen::Vector3d n = s.impact->normal_world;
+  EXPECT_NEAR(out.velocity_world_mps.dot(n), -s.impact->restitution * in.velocity_world_mps.dot(n), 1e-6);
+  EXPECT_NEAR(out.velocity_world_mps.y(), in.velocity_world_mps.y(), 1e-6);
+  EXPECT_NEAR(out.omega_body_radps.norm(), s.impact->spin_kept * in.omega_body_radps.norm(), 1e-6);
+  const RigidState back = phases.Advance(out, impact + 1e-9, release);
+  EXPECT_LT((back.velocity_world_mps - launch.velocity_world_mps).norm(), 1e-9);
+  EXPECT_LT((back.cm_world_m - launch.cm_world_m).norm(), 1e-9);
 }
 
 }  // namespace

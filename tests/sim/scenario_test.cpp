@@ -96,6 +96,35 @@ TEST_F(ScenarioFileTest, ReadsEveryCameraOfAListWithItsTrueClockOffset) {
               0.0, 1e-9);
 }
 
+TEST_F(ScenarioFileTest, ReadsTheAirTheHandAndTheImpact) {
+  const Scenario s = ReadScenarioYaml(Write(
+      "camera: front.yaml\n"
+      "aero: {k_per_m: 0.02, k_lift: 0.001, wind_mps: [1, 0, 0]}\n"
+      "hand: {release_time_s: 0.01, acceleration_mps2: [100, 0, 50], "
+      "angular_acceleration_radps2: [0, 0, -300]}\n"
+      "impact: {time_s: 0.04, normal: [-2, 0, 0], restitution: 0.4, spin_kept: 0.5}\n"));
+  EXPECT_EQ(s.aero.k_per_m, 0.02);
+  EXPECT_EQ(s.aero.k_lift, 0.001);
+  EXPECT_EQ(s.aero.wind_world_mps, Eigen::Vector3d(1, 0, 0));
+  ASSERT_TRUE(s.hand && s.impact);
+  EXPECT_EQ(s.LaunchTimeS(), 0.01);
+  EXPECT_EQ(s.hand->angular_acceleration_body_radps2, Eigen::Vector3d(0, 0, -300));
+  EXPECT_EQ(s.impact->normal_world, Eigen::Vector3d(-1, 0, 0));
+  EXPECT_EQ(s.impact->restitution, 0.4);
+}
+
+TEST_F(ScenarioFileTest, DragCoefficientNeedsTheBodysReferenceArea) {
+  EXPECT_NE(ErrorReading("camera: front.yaml\naero: {cd: 0.47}\n").find("aero_reference"),
+            std::string::npos);
+  EXPECT_NE(ErrorReading("camera: front.yaml\naero: {k_per_m: 0.01, cd: 0.47}\n")
+                .find("exactly one of k_per_m and cd"),
+            std::string::npos);
+  EXPECT_NE(ErrorReading("camera: front.yaml\nhand: {release_time_s: 0.03, acceleration_mps2: "
+                         "[0, 0, 0]}\nimpact: {time_s: 0.02}\n")
+                .find("an impact after the release"),
+            std::string::npos);
+}
+
 TEST_F(ScenarioFileTest, BadCameraListsAreNamed) {
   EXPECT_EQ(ErrorReading(std::string("camera: front.yaml\n") + kTwoCameras)
                 .rfind("scenario.yaml:4: key 'cameras': expected either camera or a cameras list, "
