@@ -240,6 +240,41 @@ TEST_F(CliTest, FitOfSimulatedTracksRecoversTheCmAndWritesItsFiles) {
 
 // ---- bad input: exit 2, the message names the file and the key ------------------------
 
+// A throw held by a hand until 45 ms and stopped by a net at 205 ms (invented): `fit` finds
+// the window and says what happened at each end; `--whole-clip` fits every frame instead
+// and the summary shows the misfit; `--drag none` is reported as asked for.
+TEST_F(CliTest, FitFindsTheFreeFlightWindowUnlessToldToUseTheWholeClip) {
+  std::string scenario = ScenarioYaml(250, false);
+  scenario += "hand: {release_time_s: 0.0445, acceleration_mps2: [120, 0, 60], "
+              "angular_acceleration_radps2: [0, 0, -400]}\n"
+              "impact: {time_s: 0.2045, normal: [-1, 0, 0], restitution: 0.5}\n";
+  Write("scenario.yaml", scenario);
+  ASSERT_EQ(Run("simulate scenario.yaml -o sim --no-video -q").exit_code, 0);
+  const RunResult r = Run("fit sim/session.yaml --tracks sim/tracks.csv -o out --drag none");
+  ASSERT_EQ(r.exit_code, 0) << r.err;
+  EXPECT_NE(r.out.find("Free flight found in frames"), std::string::npos) << r.out;
+  EXPECT_NE(r.out.find("the release"), std::string::npos) << r.out;
+  EXPECT_NE(r.out.find("impact"), std::string::npos) << r.out;
+  const json results = json::parse(ReadText(Path("out/results.json")));
+  EXPECT_TRUE(results["window"]["detected"].get<bool>());
+  EXPECT_NEAR(results["window"]["first_frame"].get<int>(), 45, 2);
+  EXPECT_NEAR(results["window"]["last_frame"].get<int>(), 204, 2);
+  EXPECT_EQ(results["drag"]["model"], "none");
+  EXPECT_EQ(results["drag"]["criterion"], "asked for");
+  const json truth = json::parse(ReadText(Path("sim/truth.json")));
+  EXPECT_EQ(truth["window"]["first_frame"], 45);
+  EXPECT_EQ(truth["window"]["last_frame"], 204);
+
+  const RunResult whole =
+      Run("fit sim/session.yaml --tracks sim/tracks.csv -o whole --whole-clip --rotation constant-spin");
+  ASSERT_EQ(whole.exit_code, 0) << whole.err;
+  const json all = json::parse(ReadText(Path("whole/results.json")));
+  EXPECT_FALSE(all["window"]["detected"].get<bool>());
+  EXPECT_EQ(all["window"]["first_frame"], 0);
+  EXPECT_EQ(all["window"]["last_frame"], 249);
+  EXPECT_GT(all["fit"]["rms_px"].get<double>(), 5 * results["fit"]["rms_px"].get<double>());
+}
+
 TEST_F(CliTest, SessionWithAnUnknownKeyIsBadInputNamingTheKey) {
   ASSERT_NO_FATAL_FAILURE(SimulateInto(20));
   Write("sim/odd_session.yaml", ReadText(Path("sim/session.yaml")) + "colour: red\n");
@@ -398,7 +433,9 @@ TEST_F(CliTest, HelpOfTheProgramAndEachCommandSaysWhatItWrites) {
   const std::vector<Case> cases = {
       {"--help", {"simulate", "fit", "results.json", "truth.json", "Exit codes"}},
       {"simulate --help", {"clip.mp4", "session.yaml", "truth.json", "tracks.csv", "--no-video"}},
-      {"fit --help", {"results.json", "frames.csv", "residuals.csv", "--tracks"}},
+      {"fit --help", {"results.json", "frames.csv", "residuals.csv", "--tracks", "--drag",
+                      "--whole-clip", "--estimate-gravity", "--first-frame"}},
+      {"analyze --help", {"free-flight", "drag", "results.json", "tracks.csv"}},
   };
   for (const Case& c : cases) {
     const RunResult r = Run(c.args);
