@@ -540,17 +540,26 @@ ModelFit ChooseTranslationModel(const FitContext& ctx, const ModelFit& vacuum, F
     result->translation_trials.push_back(trial);
     if (trial.bic < result->translation_trials[best].bic) best = m;
   }
+  // In words: "vacuum", "quadratic drag", "quadratic drag with lift".
+  const auto prose = [](TranslationModel model) {
+    switch (model) {
+      case TranslationModel::kVacuum: return "vacuum";
+      case TranslationModel::kDrag: return "quadratic drag";
+      case TranslationModel::kDragLift: return "quadratic drag with lift";
+    }
+    return "";
+  };
   std::string others;
   for (size_t m = 0; m < fits.size(); ++m) {
     if (m == best) continue;
     others += fmt::format("{}{} by {:.1f}", others.empty() ? "" : ", ",
-                          TranslationModelName(fits[m].parameters.translation_model),
+                          prose(fits[m].parameters.translation_model),
                           result->translation_trials[m].bic - result->translation_trials[best].bic);
   }
   result->translation_reason = fmt::format(
-      "drag model {} has the lowest Bayesian information criterion over the same {} residual "
-      "components: lower than {}{}",
-      TranslationModelName(fits[best].parameters.translation_model), n, others, lift_note);
+      "{} has the lowest Bayesian information criterion over the same {} residual components: "
+      "lower than {}{}",
+      prose(fits[best].parameters.translation_model), n, others, lift_note);
   return fits[best];
 }
 

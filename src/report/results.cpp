@@ -419,7 +419,7 @@ std::string SummaryText(const FitResult& fit, const FlightSummary& s,
   {
     const DragSummary& d = s.drag;
     if (d.model == TranslationModel::kVacuum) {
-      out << fmt::format("Air: vacuum model{}\n", d.reason.empty() ? "" : " (" + d.reason + ")");
+      out << fmt::format("Air: no drag{}\n", d.reason.empty() ? "" : " (" + d.reason + ")");
     } else {
       out << fmt::format("Air: {} model ({})\n  k = {:.5f} +/- {:.5f} 1/m", TranslationModelName(d.model),
                          d.reason, *d.k_per_m, *d.sigma_k_per_m);
