@@ -65,7 +65,7 @@ namespace {
 // The session's fit options with the command line's choices on top.
 FitOptions FitOptionsFor(const Session& session, const FitChoices& choices) {
   FitOptions options = tumbletrace::FitOptionsFor(session);
-  options.gravity_mode = choices.estimate_gravity ? GravityMode::kEstimate : GravityMode::kFixed;
+  if (choices.estimate_gravity) options.gravity_mode = GravityMode::kEstimate;
   if (choices.first_frame) options.first_frame = choices.first_frame;
   if (choices.last_frame) options.last_frame = choices.last_frame;
   const std::map<std::string, RotationChoice> rotations = {

@@ -163,6 +163,9 @@ json ResultsJson(const FitResult& fit, const FlightSummary& s, const Provenance&
   j["gravity"] = {{"world_mps2", Vec(s.gravity_world_mps2)},
                   {"estimated", s.sigma_gravity_mps2.has_value()},
                   {"sigma_mps2", s.sigma_gravity_mps2 ? Vec(*s.sigma_gravity_mps2) : json(nullptr)}};
+  // The direction (held or estimated); its 1-sigma angle is 0 when held.
+  j["gravity"]["direction_world"] = Vec(s.gravity_world_mps2.normalized());
+  j["gravity"]["sigma_direction_deg"] = s.sigma_gravity_direction_deg.value_or(0.0);
   j["fit"] = {{"converged", fit.converged},
               {"rms_px", fit.rms_px},
               {"sigma_px", fit.sigma_px},
