@@ -368,5 +368,44 @@ TEST(Pipeline, AFirstCameraWithoutAPoseNeedsGravityAsAMagnitude) {
   }
 }
 
+// A clip recorded through a 320 x 240 window of a full-frame (1024 x 768) calibration: refused
+// against the full-frame camera file, naming both sizes; accepted once the session gives the
+// window.
+TEST(Pipeline, AClipOfAnotherSizeThanItsCameraIsRefusedUntilTheWindowIsGiven) {
+  testing::TempDir dir("pipeline_window");
+  Scenario s = ClipScenario(testing::PlanarSpinScenario(0.0, 60));
+  s.camera = testing::CentralWindow(s.camera, 320, 240);
+  s.frames = 12;
+  s.video.supersampling = 1;
+  s.video.exposure_samples = 1;
+  s.video.image_folder = true;
+  WriteSimulation(SimulateFlight(s), dir.path(), {});
+  Camera full = testing::FacingCamera();  // the full frame the window was cut from
+  WriteCameraYaml(full, dir.path() / "camera.yaml");
+  Session session = ReadSessionYaml(dir.path() / "session.yaml");
+  try {
+    TrackClip(session, TrackingOptions{}, {});
+    ADD_FAILURE() << "no InputError";
+  } catch (const InputError& e) {
+    const std::string message = e.what();
+    EXPECT_NE(message.find("320 x 240 px"), std::string::npos) << message;
+    EXPECT_NE(message.find("1024 x 768 px"), std::string::npos) << message;
+    EXPECT_NE(message.find("sensor_window"), std::string::npos) << message;
+  }
+  {
+    std::ofstream(dir.path() / "session.yaml", std::ios::app)
+        << "sensor_window: {offset_px: [352, 264], size_px: [320, 240]}\n";
+  }
+  session = ReadSessionYaml(dir.path() / "session.yaml");
+  EXPECT_EQ(session.cameras[0].camera.intrinsics.cx_px, s.camera.intrinsics.cx_px);
+  try {
+    TrackClip(session, TrackingOptions{}, {});
+  } catch (const InputError& e) {
+    ADD_FAILURE() << e.what();
+  } catch (const DataError&) {
+    // twelve frames may not identify every marker: not what this test is about
+  }
+}
+
 }  // namespace
 }  // namespace tumbletrace
