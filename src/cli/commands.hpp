@@ -52,4 +52,26 @@ struct AnalyzeOptions {
 };
 int RunAnalyze(const AnalyzeOptions& options, const CommonOptions& common);
 
+// Camera set-up (setup_commands.cpp).
+struct CalibrateOptions {
+  std::filesystem::path images;       // a folder of images or a video file
+  std::filesystem::path target;       // target.yaml
+  std::filesystem::path out_dir;
+  std::filesystem::path print_svg;    // --print: write the target as SVG instead
+  int every = 1;                      // use every n-th image
+  bool estimate_k3 = false;
+  bool no_tangential = false;
+};
+int RunCalibrate(const CalibrateOptions& options, const CommonOptions& common);
+
+struct LocateOptions {
+  std::filesystem::path camera;       // camera.yaml with the intrinsics
+  std::filesystem::path image;        // one image of the target in the throw region
+  std::filesystem::path target;       // its target.yaml
+  std::string down;                   // gravity's direction in the target frame
+  std::filesystem::path points;       // or: surveyed points
+  std::filesystem::path out_dir;
+};
+int RunLocate(const LocateOptions& options, const CommonOptions& common);
+
 }  // namespace tumbletrace::cli

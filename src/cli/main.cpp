@@ -53,6 +53,8 @@ int main(int argc, char** argv) {
   app.require_subcommand(1);
   app.footer(
       "\nStart here:  tumbletrace analyze session.yaml -o out/\n"
+      "Camera set-up:  tumbletrace calibrate (intrinsics from target views), tumbletrace locate "
+      "(the camera's pose in the world)\n"
       "A session names the clip, the capture rate, the camera (or a list of cameras) and the "
       "body files; see README.md and docs/files.md. Try it on the demo: tumbletrace analyze "
       "data-demo/session.yaml -o out/demo");
@@ -111,6 +113,67 @@ int main(int argc, char** argv) {
   simulate->add_flag("--no-video", sim.no_video, "write the files but not clip.mp4");
   simulate->add_flag("-q,--quiet", common.quiet, "print nothing but errors");
 
+  cli::CalibrateOptions calibrate;
+  CLI::App* calibrate_cmd = app.add_subcommand(
+      "calibrate",
+      "Calibrate a camera from images of a planar target (checkerboard, circle grid or ChArUco "
+      "board, described in a target YAML file): intrinsics and Brown-Conrady distortion by "
+      "Zhang's method (OpenCV's calibrateCamera). Reads IMAGES (a folder of numbered images or "
+      "a video file) and TARGET; writes DIR/camera.yaml (the contract's camera file, without a "
+      "pose) and DIR/calibration.json (1-sigma of every term, rms per view, outlier views, the "
+      "coverage map, orientation checks). Prints the same, with a warning when the views do not "
+      "cover the image and a WEAK flag when the board's orientations cannot determine the "
+      "intrinsics (all head-on, or all parallel).\n"
+      "Example:  tumbletrace calibrate calib_images/ --target target.yaml -o cam/\n"
+      "Print a target first:  tumbletrace calibrate --target target.yaml --print board.svg\n"
+      "Film 15-25 views: the board filling a good part of the image, moved into every corner, "
+      "tilted 20-45 degrees in different directions, sharp and evenly lit.");
+  calibrate_cmd->add_option("images", calibrate.images,
+                            "folder of numbered images (png, tif, jpg) or a video file")
+      ->check(CLI::ExistingPath);
+  calibrate_cmd->add_option("--target", calibrate.target, "target YAML file (docs/files.md)")
+      ->required()->check(CLI::ExistingFile);
+  calibrate_cmd->add_option("-o,--out", calibrate.out_dir, "output folder (created when missing)");
+  calibrate_cmd->add_option("--print", calibrate.print_svg,
+                            "write the target as an SVG drawing at true size (mm) and stop");
+  calibrate_cmd->add_option("--every", calibrate.every, "use every n-th image or frame")
+      ->capture_default_str()->check(CLI::PositiveNumber);
+  calibrate_cmd->add_flag("--estimate-k3", calibrate.estimate_k3,
+                          "estimate the sixth-order radial term k3 too (wide-angle lenses); "
+                          "held at 0 otherwise");
+  calibrate_cmd->add_flag("--no-tangential", calibrate.no_tangential,
+                          "hold the tangential terms p1, p2 at 0");
+  calibrate_cmd->add_flag("-q,--quiet", common.quiet, "print nothing but errors and warnings");
+
+  cli::LocateOptions locate;
+  CLI::App* locate_cmd = app.add_subcommand(
+      "locate",
+      "The camera's pose in the world (world_to_camera) from one image of the target placed in "
+      "the throw region, or from surveyed points. With --image: the world's origin is the "
+      "target's first feature, z points up (against --down, gravity's direction in the target "
+      "frame: x along the target's rows of features, y down its columns, z = x cross y, into "
+      "the board), x is the target's x axis made level. With --points: world coordinates "
+      "(z up) and their pixels in a YAML file. Pose by solvePnP refined by Levenberg-Marquardt; "
+      "writes DIR/camera.yaml (the intrinsics of --camera, with world_to_camera) and "
+      "DIR/pose.json (1-sigma of the rotation in deg and the translation in mm, the covariance, "
+      "the camera centre in the world).\n"
+      "Example:  tumbletrace locate --camera cam/camera.yaml --image board_in_place.png "
+      "--target target.yaml --down +y -o cam_posed/\n"
+      "          tumbletrace locate --camera cam/camera.yaml --points points.yaml -o cam_posed/");
+  locate_cmd->add_option("--camera", locate.camera, "camera.yaml with the intrinsics (from calibrate)")
+      ->required()->check(CLI::ExistingFile);
+  locate_cmd->add_option("--image", locate.image, "one image of the target in the throw region")
+      ->check(CLI::ExistingFile);
+  locate_cmd->add_option("--target", locate.target, "the target's YAML file")->check(CLI::ExistingFile);
+  locate_cmd->add_option("--down", locate.down,
+                         "gravity's direction in the target frame: +x, -x, +y, -y, +z, -z or three "
+                         "numbers 0,1,0 (a board hanging upright, printed side to the camera: +y)");
+  locate_cmd->add_option("--points", locate.points,
+                         "surveyed points: YAML with points: [{world: [x, y, z], pixel: [u, v]}]")
+      ->check(CLI::ExistingFile);
+  locate_cmd->add_option("-o,--out", locate.out_dir, "output folder (created when missing)")->required();
+  locate_cmd->add_flag("-q,--quiet", common.quiet, "print nothing but errors");
+
   try {
     app.parse(argc, argv);
   } catch (const CLI::ParseError& e) {
@@ -119,6 +182,8 @@ int main(int argc, char** argv) {
   }
   try {
     if (*simulate) return cli::RunSimulate(sim, common);
+    if (*calibrate_cmd) return cli::RunCalibrate(calibrate, common);
+    if (*locate_cmd) return cli::RunLocate(locate, common);
     if (*fit_cmd) return cli::RunFit(fit, common);
     if (*track_cmd) return cli::RunTrack(track, common);
     if (*analyze_cmd) return cli::RunAnalyze(analyze, common);
@@ -126,7 +191,8 @@ int main(int argc, char** argv) {
     std::cerr << "error: " << e.what() << "\n";
     return static_cast<int>(ExitCode::kBadInput);
   } catch (const tumbletrace::DataError& e) {
-    std::cerr << "error: the data do not support a fit: " << e.what() << "\n";
+    std::cerr << "error: the data do not support " << (*calibrate_cmd || *locate_cmd ? "the result" : "a fit")
+              << ": " << e.what() << "\n";
     return static_cast<int>(ExitCode::kUnsupportedData);
   } catch (const std::exception& e) {
     std::cerr << "internal error: " << e.what() << "\n";

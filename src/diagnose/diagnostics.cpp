@@ -125,7 +125,8 @@ RunsTest Runs(const std::vector<ResidualRecord>& residuals, double z_limit) {
 GravityCheck CheckGravity(const FitResult& fit, const DiagnoseOptions& options) {
   GravityCheck check;
   const Eigen::Matrix3d cov = fit.covariance.block<3, 3>(kG, kG);
-  if (!(cov.trace() > 0)) return check;  // gravity held: no check
+  // Only when all of g was estimated (held, or only its direction: no check of the scale).
+  if (!options.check_gravity || !(cov.trace() > 0)) return check;
   check.performed = true;
   const Eigen::Vector3d g = fit.parameters.g_world_mps2;
   check.expected_mps2 = options.expected_gravity_mps2.norm();

@@ -1,6 +1,7 @@
 #include "tumbletrace/fit/free_flight_fit.hpp"
 
 #include <ceres/ceres.h>
+#include <ceres/sphere_manifold.h>
 #include <fmt/format.h>
 
 #include <Eigen/Dense>
@@ -140,7 +141,7 @@ ModelProblem BuildProblem(const FitContext& ctx, RotationModel model, const std:
     const Sighting& s = ctx.sightings[i];
     const Camera& camera = ctx.cameras[s.camera];
     SightingGeometry geometry{s.pixel, s.marker_body_m, s.time_s - ctx.t0_s, camera.intrinsics,
-                              *camera.camera_from_world};
+                              camera.camera_from_world.value_or(RigidTransform{})};
     ceres::LossFunction* loss =
         robust ? new ceres::HuberLoss(ctx.options.robust_loss_scale_px) : nullptr;
     double* offset = &b->offsets[s.camera];
@@ -168,6 +169,15 @@ ModelProblem BuildProblem(const FitContext& ctx, RotationModel model, const std:
   out.active = {{b->r0, kR0, identity(3)}, {b->v0, kV0, identity(3)}};
   if (ctx.options.gravity_mode == GravityMode::kFixed) {
     problem.SetParameterBlockConstant(b->g);
+  } else if (ctx.options.gravity_mode == GravityMode::kDirection) {
+    // Only the direction: the magnitude is the session's. The world frame is then fixed by
+    // the (first) camera alone and g's two tangent directions are estimated with the rest.
+    // Layout = the manifold's Plus Jacobian (3 x 2) times its tangent.
+    auto* sphere = new ceres::SphereManifold<3>;
+    problem.SetManifold(b->g, sphere);
+    Eigen::Matrix<double, 3, 2, Eigen::RowMajor> plus_jacobian;
+    sphere->PlusJacobian(b->g, plus_jacobian.data());
+    out.active.push_back({b->g, kG, plus_jacobian});
   } else {
     out.active.push_back({b->g, kG, identity(3)});
   }
@@ -577,9 +587,12 @@ FitResult FitFreeFlight(const std::vector<FrameSightings>& frames, const Body& b
     throw InputError("fit options: " + why);
   }
   if (cameras.empty()) throw InputError("the fit needs at least one camera");
-  for (size_t k = 0; k < cameras.size(); ++k) {
+  for (size_t k = 1; k < cameras.size(); ++k) {
     if (!cameras[k].camera_from_world) {
-      throw InputError(fmt::format("camera {} has no world_to_camera pose; the fit needs it", k));
+      throw InputError(fmt::format(
+          "camera {} has no world_to_camera pose; only the first camera may lack one (its frame "
+          "is then the world frame, and the others' poses are relative to it)",
+          k));
     }
   }
 
@@ -624,8 +637,9 @@ FitResult FitFreeFlight(const std::vector<FrameSightings>& frames, const Body& b
   // t0 at the middle frame of the window decouples position, velocity and acceleration.
   const double t0_s = world_time(window[window.size() / 2]);
 
-  // The torque-free trajectories: one per camera, sampled at its frame times.
-  FitContext ctx{sightings, cameras, options, t0_s, {}};
+  // The torque-free rotations and the paths through air: one per camera, sampled at its
+  // frame times.
+  FitContext ctx{sightings, cameras, options, t0_s, {}, {}};
   for (size_t k = 0; k < cameras.size(); ++k) {
     std::map<double, int> sample_of;
     for (const Sighting& s : sightings) {
@@ -886,6 +900,13 @@ FitResult FitFreeFlight(const std::vector<FrameSightings>& frames, const Body& b
         "direction). A throw that spins the body about another axis, or one that tumbles "
         "it, determines the missing component.",
         u.x(), u.y(), u.z(), axis_world.x(), axis_world.y(), axis_world.z()));
+  }
+  if (!cameras.front().camera_from_world) {
+    result.warnings.push_back(
+        "The camera file has no world_to_camera: positions, velocities and the spin are in the "
+        "camera frame (x right, y down, z along the optical axis), gravity's direction in that "
+        "frame was estimated from the flight (gravity.direction_world), and the launch angle is "
+        "measured from the plane normal to it.");
   }
   if (!result.converged) {
     result.warnings.push_back("The fit did not converge: " + chosen.summary.message);

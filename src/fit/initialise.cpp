@@ -199,7 +199,9 @@ void SolveTranslationAndCm(const std::vector<BodyPose>& poses,
                            const std::vector<Eigen::Matrix3d>& world_from_body,
                            const FitOptions& options, FlightParameters* p) {
   // Closed form: p_k = r0 + v0 dt + g dt^2/2 - R(t_k) c, rows per frame and axis.
-  const bool estimate_g = options.gravity_mode == GravityMode::kEstimate;
+  // g is solved for when it is estimated; when only its direction is, the solved vector is
+  // scaled to the given magnitude afterwards (the start of the fit on the sphere).
+  const bool estimate_g = options.gravity_mode != GravityMode::kFixed;
   const int n_unknowns = estimate_g ? 12 : 9;
   const int n_rows = 3 * static_cast<int>(poses.size());
   Eigen::MatrixXd a = Eigen::MatrixXd::Zero(n_rows + 3, n_unknowns);
@@ -229,6 +231,11 @@ void SolveTranslationAndCm(const std::vector<BodyPose>& poses,
   p->v0_world_mps = x.segment<3>(3);
   p->cm_body_m = x.segment<3>(6);
   p->g_world_mps2 = estimate_g ? Eigen::Vector3d(x.segment<3>(9)) : options.gravity_world_mps2;
+  if (options.gravity_mode == GravityMode::kDirection) {
+    p->g_world_mps2 = p->g_world_mps2.norm() > 0
+                          ? Eigen::Vector3d(p->g_world_mps2.normalized() * options.gravity_world_mps2.norm())
+                          : options.gravity_world_mps2;
+  }
 }
 
 }  // namespace tumbletrace

@@ -262,7 +262,16 @@ FlightSummary Summarise(const FitResult& fit, const Body& body, const AirSpec& a
 
   s.gravity_world_mps2 = p.g_world_mps2;
   const Eigen::Matrix3d cov_g = cov.block<3, 3>(kG, kG);
-  if (cov_g.trace() > 0) s.sigma_gravity_mps2 = cov_g.diagonal().cwiseSqrt();
+  if (cov_g.trace() > 0) {
+    s.sigma_gravity_mps2 = cov_g.diagonal().cwiseSqrt();
+    // The direction u = g / |g| moves by (1 - u u^T) dg / |g|: its angle's variance is the
+    // trace of that projection of cov_g over |g|^2 (first order).
+    const Eigen::Vector3d u = p.g_world_mps2.normalized();
+    const Eigen::Matrix3d across = Eigen::Matrix3d::Identity() - u * u.transpose();
+    s.sigma_gravity_direction_deg =
+        std::sqrt(std::max((across * cov_g * across).trace(), 0.0)) / p.g_world_mps2.norm() *
+        180.0 / M_PI;
+  }
 
   // Rotation: model, inertia, angular momentum, flips.
   s.rotation_model = p.rotation_model;

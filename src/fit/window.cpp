@@ -241,12 +241,16 @@ FreeFlightWindow FindFreeFlightWindow(const std::vector<FrameSightings>& frames,
   ++window.fits;
   grow.rotation = ChoiceOf(model.parameters.rotation_model);
   bool open_start = lo > 0, open_end = hi < n - 1;
+  // A refused chunk is halved and tried again, down to the smallest chunk, so that the
+  // grown edge ends within that many frames of the break, where the scan looks for it.
+  int halvings[2] = {0, 0};
   while (open_start || open_end) {
-    const int chunk = std::max(options.min_chunk_frames,
-                               static_cast<int>(std::lround(options.chunk_fraction * (hi - lo + 1))));
     for (const bool at_end : {false, true}) {
       bool& open = at_end ? open_end : open_start;
       if (!open) continue;
+      const int chunk = std::max(
+          options.min_chunk_frames,
+          static_cast<int>(std::lround(options.chunk_fraction * (hi - lo + 1))) >> halvings[at_end]);
       const int from = at_end ? hi + 1 : std::max(0, lo - chunk);
       const int to = at_end ? std::min(n - 1, hi + chunk) : lo - 1;
       // The model refitted with the chunk, and the chunk's sightings against it: a chunk
@@ -276,6 +280,8 @@ FreeFlightWindow FindFreeFlightWindow(const std::vector<FrameSightings>& frames,
           open = false;
           end.clip_edge = true;
         }
+      } else if (chunk > options.min_chunk_frames) {
+        ++halvings[at_end];
       } else {
         open = false;
         end.excess_chi2 = z;

@@ -70,9 +70,33 @@ Eigen::Vector2d UndistortToNormalised(const CameraIntrinsics& k, const Eigen::Ve
   return xy;
 }
 
-// camera.yaml: see ../shared/CONTRACT.md. With a sensor_window, cx and cy in the file are
-// those of the full-frame calibration; the window's offset is subtracted here so that the
-// intrinsics in memory describe the recorded (cropped) image.
+std::string SensorWindowProblem(const CameraIntrinsics& full, const SensorWindow& window) {
+  const Eigen::Vector2d end = window.offset_px + window.size_px.cast<double>();
+  if (window.offset_px.minCoeff() < 0 || end.x() > full.width_px || end.y() > full.height_px) {
+    return fmt::format(
+        "a window inside the full frame image_size [{}, {}] (offset [{}, {}] + size [{}, {}] "
+        "reaches [{}, {}])",
+        full.width_px, full.height_px, window.offset_px.x(), window.offset_px.y(),
+        window.size_px.x(), window.size_px.y(), end.x(), end.y());
+  }
+  return "";
+}
+
+void ApplySensorWindow(const SensorWindow& window, Camera* camera) {
+  CameraIntrinsics& k = camera->intrinsics;
+  SensorWindow applied = window;
+  applied.full_size_px = Eigen::Vector2i(k.width_px, k.height_px);
+  k.cx_px -= window.offset_px.x();
+  k.cy_px -= window.offset_px.y();
+  k.width_px = window.size_px.x();
+  k.height_px = window.size_px.y();
+  camera->sensor_window = applied;
+}
+
+// camera.yaml: see ../shared/CONTRACT.md. With a sensor_window, image_size, cx and cy in
+// the file are those of the full-frame calibration; the window's offset is subtracted here
+// and its size becomes the image size, so that the intrinsics in memory describe the
+// recorded (cropped) image.
 Camera ReadCameraYaml(const std::filesystem::path& path) {
   YamlMap map = YamlMap::LoadFile(path);
   Camera camera;
@@ -123,19 +147,22 @@ Camera ReadCameraYaml(const std::filesystem::path& path) {
   if (map.Has("sensor_window")) {
     YamlMap window_map = map.Map("sensor_window");
     SensorWindow window;
-    const std::vector<double> offset =
-        window_map.Numbers("offset_px", 2, "[x, y] of the window's top-left pixel on the sensor");
+    const std::vector<double> offset = window_map.Numbers(
+        "offset_px", 2, "[x, y] of the window's top-left pixel on the sensor, whole pixels >= 0");
+    for (double v : offset) {
+      if (v < 0 || v != std::floor(v)) {
+        window_map.Fail("offset_px", "[x, y] of the window's top-left pixel on the sensor, whole "
+                                     "pixels >= 0");
+      }
+    }
     window.offset_px = Eigen::Vector2d(offset[0], offset[1]);
     window.size_px = ReadPixelCount(window_map, "size_px",
                                     "[width, height] as two positive whole numbers of pixels");
-    if (window.size_px != size) {
-      window_map.Fail("size_px",
-                      fmt::format("the same size as image_size [{}, {}]", size.x(), size.y()));
+    if (const std::string problem = SensorWindowProblem(k, window); !problem.empty()) {
+      window_map.Fail("size_px", problem);
     }
     window_map.Finish();
-    k.cx_px -= window.offset_px.x();
-    k.cy_px -= window.offset_px.y();
-    camera.sensor_window = window;
+    ApplySensorWindow(window, &camera);
   }
   map.Finish();
   return camera;
@@ -146,8 +173,14 @@ void WriteCameraYaml(const Camera& camera, const std::filesystem::path& path) {
   // The file holds the full-frame principal point when a window is given (see ReadCameraYaml).
   const Eigen::Vector2d offset_px =
       camera.sensor_window ? camera.sensor_window->offset_px : Eigen::Vector2d::Zero();
+  // (A window without its full frame: the smallest full frame that holds it.)
+  Eigen::Vector2i full_size_px(k.width_px, k.height_px);
+  if (camera.sensor_window) {
+    full_size_px = camera.sensor_window->full_size_px;
+    if (full_size_px.minCoeff() <= 0) full_size_px += offset_px.cast<int>();
+  }
   WriteFileAtomically(path, [&](std::ostream& out) {
-    out << fmt::format("image_size: [{}, {}]\n", k.width_px, k.height_px);
+    out << fmt::format("image_size: [{}, {}]\n", full_size_px.x(), full_size_px.y());
     out << "fx: " << Num(k.fx_px) << "\n";
     out << "fy: " << Num(k.fy_px) << "\n";
     out << "cx: " << Num(k.cx_px + offset_px.x()) << "\n";

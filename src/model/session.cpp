@@ -106,6 +106,50 @@ double ReadCaptureRate(YamlMap& map, const std::string& expected) {
   return fps;
 }
 
+// An optional `sensor_window: {offset_px, size_px}` (checked against the camera file's full
+// frame once that is read).
+void ReadSessionWindow(YamlMap& map, SessionCamera* camera) {
+  if (!map.Has("sensor_window")) return;
+  YamlMap window_map = map.Map("sensor_window");
+  SensorWindow window;
+  const std::vector<double> offset =
+      window_map.Numbers("offset_px", 2, "[x, y] of the window's top-left pixel on the sensor");
+  window.offset_px = Eigen::Vector2d(offset[0], offset[1]);
+  const std::vector<double> size =
+      window_map.Numbers("size_px", 2, "[width, height] as two positive whole numbers of pixels");
+  for (double v : size) {
+    if (v < 1 || v != std::floor(v) || v > 1e6) {
+      window_map.Fail("size_px", "[width, height] as two positive whole numbers of pixels");
+    }
+  }
+  window.size_px = Eigen::Vector2i(static_cast<int>(size[0]), static_cast<int>(size[1]));
+  window_map.Finish();
+  camera->sensor_window = window;
+  camera->window_where = fmt::format("{}:{}: key '{}'", window_map.file_label(), window_map.line(),
+                                     window_map.key_path());
+}
+
+// Applies the session's window to the camera file's full-frame calibration.
+void ApplySessionWindow(SessionCamera* camera) {
+  if (!camera->sensor_window) return;
+  if (camera->camera.sensor_window) {
+    throw InputError(fmt::format("{}: expected no sensor_window here, since the camera file {} "
+                                 "has one already (give it in one place)",
+                                 camera->window_where, camera->camera_file.string()));
+  }
+  if (const std::string problem = SensorWindowProblem(camera->camera.intrinsics, *camera->sensor_window);
+      !problem.empty()) {
+    throw InputError(fmt::format("{}: expected {} of the camera file {}", camera->window_where,
+                                 problem, camera->camera_file.string()));
+  }
+  ApplySensorWindow(*camera->sensor_window, &camera->camera);
+}
+
+std::string WindowText(const SensorWindow& w) {
+  return fmt::format("{{offset_px: [{}, {}], size_px: [{}, {}]}}", w.offset_px.x(),
+                     w.offset_px.y(), w.size_px.x(), w.size_px.y());
+}
+
 // The single-camera form: `clip`, `capture_fps` and `camera` at the top level.
 SessionCamera ReadSingleCamera(YamlMap& map, const fs::path& folder) {
   SessionCamera camera;
@@ -114,6 +158,7 @@ SessionCamera ReadSingleCamera(YamlMap& map, const fs::path& folder) {
   camera.capture_fps =
       ReadCaptureRate(map, "the camera's capture rate in frames per second");
   camera.camera_file = ResolveFile(map, "camera", folder, kCameraFileExpected);
+  ReadSessionWindow(map, &camera);
   return camera;
 }
 
@@ -144,6 +189,7 @@ std::vector<SessionCamera> ReadCameraList(YamlMap& map, const fs::path& folder,
     const std::string offset_expected =
         "the camera's clock offset in s (its frame i is at i / capture_fps + time_offset_s)";
     camera.time_offset_s = item.OptionalNumber("time_offset_s", offset_expected).value_or(0.0);
+    ReadSessionWindow(item, &camera);
     item.Finish();
     cameras.push_back(std::move(camera));
   }
@@ -198,6 +244,7 @@ void WriteCameraList(const Session& session, const fs::path& path, std::ostream&
     if (camera.time_offset_s != 0.0) {
       out << "    time_offset_s: " << fmt::format("{}", camera.time_offset_s) << "\n";
     }
+    if (camera.sensor_window) out << "    sensor_window: " << WindowText(*camera.sensor_window) << "\n";
   }
 }
 
@@ -348,7 +395,10 @@ Session ReadSessionYaml(const std::filesystem::path& path) {
   }
   map.Finish();
   // The named files are read after the session itself is known to be well formed.
-  for (SessionCamera& camera : session.cameras) camera.camera = ReadCameraYaml(camera.camera_file);
+  for (SessionCamera& camera : session.cameras) {
+    camera.camera = ReadCameraYaml(camera.camera_file);
+    ApplySessionWindow(&camera);
+  }
   session.body = ReadBodyYaml(session.body_file);
   return session;
 }
@@ -360,6 +410,7 @@ void WriteSessionYaml(const Session& session, const std::filesystem::path& path)
       out << "clip: " << Scalar(SessionRelative(camera.clip, path)) << "\n";
       out << "capture_fps: " << fmt::format("{}", session.capture_fps) << "\n";
       out << "camera: " << Scalar(SessionRelative(camera.camera_file, path)) << "\n";
+      if (camera.sensor_window) out << "sensor_window: " << WindowText(*camera.sensor_window) << "\n";
     } else {
       WriteCameraList(session, path, out);
     }

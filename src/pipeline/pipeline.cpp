@@ -70,22 +70,35 @@ CameraTracking TrackCamera(const Session& session, int camera_index, FrameSource
 FitOptions FitOptionsFor(const Session& session) {
   FitOptions options;
   const std::optional<Eigen::Vector3d> g = session.gravity.WorldVector();
-  if (!g) {
-    throw InputError(fmt::format(
-        "{}: the fit needs gravity as a world vector (gravity_mps2: [x, y, z] or gravity: "
-        "{{latitude_deg, elevation_m}}); estimating the direction of gravity from the flight "
-        "is not available yet",
-        session.file.string()));
-  }
-  for (const SessionCamera& camera : session.cameras) {
+  // Only the first camera may lack a pose: its frame is then the world frame, the other
+  // cameras' poses are relative to it, and gravity's direction must come from the flight.
+  for (size_t k = 1; k < session.cameras.size(); ++k) {
+    const SessionCamera& camera = session.cameras[k];
     if (!camera.camera.camera_from_world) {
       throw InputError(fmt::format(
-          "{}: camera '{}' ({}): the fit needs world_to_camera in every camera file; "
-          "estimating the camera's pose from the flight is not available yet",
+          "{}: camera '{}' ({}): world_to_camera is missing; every camera but the first needs "
+          "it (without the first camera's pose, the world frame is that camera's frame and the "
+          "others' poses are relative to it)",
           session.file.string(), camera.name, camera.camera_file.string()));
     }
   }
-  options.gravity_world_mps2 = *g;
+  const SessionCamera& first = session.cameras.front();
+  if (!first.camera.camera_from_world && g) {
+    throw InputError(fmt::format(
+        "{}: camera '{}' ({}) has no world_to_camera, so there is no world frame to give "
+        "gravity's direction in (gravity_mps2: [x, y, z], gravity: {{latitude_deg, ..}}, or "
+        "the default [0, 0, -9.80665] when neither is given); expected gravity as a magnitude "
+        "(gravity_mps2: 9.81), whose direction the fit then estimates",
+        session.file.string(), first.name, first.camera_file.string()));
+  }
+  if (g) {
+    options.gravity_world_mps2 = *g;
+  } else {
+    // Only the magnitude is given: the direction is estimated from the flight (the start:
+    // straight down the image, refined by the initialisation).
+    options.gravity_mode = GravityMode::kDirection;
+    options.gravity_world_mps2 = Eigen::Vector3d(0, session.gravity.Magnitude(), 0);
+  }
   options.first_frame = session.first_frame;
   options.last_frame = session.last_frame;
   options.time_offsets_s = session.TimeOffsets();
@@ -120,6 +133,7 @@ FlightAnalysis FitSession(const std::vector<FrameSightings>& frames, const Sessi
   out.summary = Summarise(out.fit, session.body, session.air);
   DiagnoseOptions diagnose;
   diagnose.expected_gravity_mps2 = options.gravity_world_mps2;
+  diagnose.check_gravity = options.gravity_mode == GravityMode::kEstimate;
   out.diagnostics = Diagnose(out.fit, out.window, session.body, cameras, diagnose);
   for (const BreakFlag& flag : out.diagnostics.flags) {
     if (flag.kind == "gravity" || flag.kind == "correlated-residuals" || flag.kind == "marker" ||
@@ -138,6 +152,18 @@ TrackingResult TrackClip(const Session& session, const TrackingOptions& options,
   int total = 0;
   for (const SessionCamera& camera : session.cameras) {
     sources.push_back(OpenClip(camera.clip, session.first_frame, session.last_frame));
+    // The clip must be of the size the calibration describes (the sensor window's, when one
+    // is given): another size means another read-out, whose principal point is not known.
+    const cv::Size size = sources.back()->info().size;
+    const CameraIntrinsics& k = camera.camera.intrinsics;
+    if (size.width > 0 && (size.width != k.width_px || size.height != k.height_px)) {
+      throw InputError(fmt::format(
+          "{}: the clip's frames are {} x {} px, but the camera file {} describes {} x {} px{}; "
+          "expected the same size (a cropped read-out needs sensor_window: {{offset_px: [x, y], "
+          "size_px: [w, h]}} in the camera file or the session)",
+          camera.clip.string(), size.width, size.height, camera.camera_file.string(), k.width_px,
+          k.height_px, camera.camera.sensor_window ? " (its sensor window)" : ""));
+    }
     const int count = sources.back()->info().frame_count;
     total = (total < 0 || count < 0) ? -1 : total + count;
   }

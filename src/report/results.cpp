@@ -253,6 +253,9 @@ json ResultsJson(const FitResult& fit, const FlightSummary& s, const Provenance&
                        {"sentence", r.sentence}}},
         {"acceleration_smoothing_frames", diagnostics.acceleration_smoothing_frames}};
   }
+  // The direction (held or estimated); its 1-sigma angle is 0 when held.
+  j["gravity"]["direction_world"] = Vec(s.gravity_world_mps2.normalized());
+  j["gravity"]["sigma_direction_deg"] = s.sigma_gravity_direction_deg.value_or(0.0);
   j["fit"] = {{"converged", fit.converged},
               {"rms_px", fit.rms_px},
               {"sigma_px", fit.sigma_px},

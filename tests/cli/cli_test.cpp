@@ -13,6 +13,10 @@
 #include <string>
 #include <vector>
 
+#include <opencv2/imgcodecs.hpp>
+
+#include "support/board_views.hpp"
+
 namespace {
 
 namespace fs = std::filesystem;
@@ -576,6 +580,140 @@ TEST_F(CliClipTest, HelpOfTrackAndAnalyzeSaysWhatTheyWrite) {
   const RunResult track = Run("track --help");
   EXPECT_EQ(track.exit_code, 0);
   EXPECT_NE(track.out.find("tracks.csv"), std::string::npos);
+}
+
+// ---- camera set-up: calibrate and locate ---------------------------------------------------
+
+// Renders `count` views of a 9 x 6 checkerboard (30 mm squares) by the simulator's board
+// renderer into `folder` as numbered PNG images.
+void RenderCalibrationImages(const fs::path& folder, int count) {
+  fs::create_directories(folder);
+  const CalibrationTarget target = testing::Checkerboard9x6();
+  const CameraIntrinsics truth = testing::CalibrationTruth();
+  int i = 0;
+  for (const RigidTransform& pose : testing::BoardPoses(target, truth, count, 20, 45, 3)) {
+    BoardImageSettings settings;
+    settings.noise_seed = 100 + i;
+    const cv::Mat image = RenderBoardImage(target.BlackPolygons(), truth, pose, settings);
+    cv::imwrite((folder / ("view_" + std::to_string(100 + i++) + ".png")).string(), image);
+  }
+}
+
+constexpr const char* kTargetYaml = "kind: checkerboard\nunits: mm\ninner_corners: [9, 6]\nsquare: 30\n";
+
+TEST_F(CliTest, CalibrateFromRenderedImagesWritesTheCameraAndItsReport) {
+  RenderCalibrationImages(Path("calib"), 12);
+  Write("target.yaml", kTargetYaml);
+  const RunResult r = Run("calibrate calib --target target.yaml -o cam");
+  ASSERT_EQ(r.exit_code, 0) << r.err << r.out;
+  for (const char* word : {"found in 12 of 12 images", "fx = ", " px", "rms", "Coverage", "deg"}) {
+    EXPECT_NE(r.out.find(word), std::string::npos) << word << "\n" << r.out;
+  }
+  const json report = json::parse(ReadText(Path("cam/calibration.json")));
+  EXPECT_EQ(report["views_used"].get<int>(), 12);
+  EXPECT_TRUE(report["sigma"]["distortion"][4].is_null());  // k3 held
+  const double fx = report["fx"].get<double>();
+  EXPECT_NEAR(fx / testing::CalibrationTruth().fx_px, 1.0, 0.003);
+  const std::string camera = ReadText(Path("cam/camera.yaml"));
+  EXPECT_NE(camera.find("image_size: [1024, 768]"), std::string::npos) << camera;
+  EXPECT_EQ(camera.find("world_to_camera"), std::string::npos);
+
+  // The calibrated camera located from surveyed points (their pixels through the truth).
+  std::string points = "units: m\npoints:\n";
+  RigidTransform pose;
+  pose.rotation << 1, 0, 0, 0, 0, -1, 0, 1, 0;
+  pose.translation_m = Eigen::Vector3d(0.05, 0.1, 3.0);
+  for (double x : {-0.8, -0.2, 0.4, 0.9}) {
+    for (double z : {-0.6, 0.0, 0.5}) {
+      Eigen::Vector2d pixel;
+      ASSERT_TRUE(ProjectBoardPoint(Eigen::Vector3d(x, 0.2 * z, z), testing::CalibrationTruth(),
+                                    pose, &pixel));
+      points += "  - {world: [" + std::to_string(x) + ", " + std::to_string(0.2 * z) + ", " +
+                std::to_string(z) + "], pixel: [" + std::to_string(pixel.x()) + ", " +
+                std::to_string(pixel.y()) + "]}\n";
+    }
+  }
+  Write("points.yaml", points);
+  const RunResult located = Run("locate --camera cam/camera.yaml --points points.yaml -o posed");
+  ASSERT_EQ(located.exit_code, 0) << located.err;
+  EXPECT_NE(located.out.find("deg"), std::string::npos);
+  EXPECT_NE(located.out.find("mm"), std::string::npos);
+  const std::string posed = ReadText(Path("posed/camera.yaml"));
+  EXPECT_NE(posed.find("world_to_camera"), std::string::npos) << posed;
+  EXPECT_NE(posed.find("fx: " + std::to_string(fx).substr(0, 6)), std::string::npos) << posed;
+  const json pose_json = json::parse(ReadText(Path("posed/pose.json")));
+  EXPECT_NEAR(pose_json["world_to_camera"]["translation_m"][2].get<double>(), 3.0, 0.02);
+  EXPECT_GT(pose_json["sigma_rotation_deg"][0].get<double>(), 0.0);
+
+  // Never over its input.
+  const RunResult over = Run("locate --camera cam/camera.yaml --points points.yaml -o cam");
+  EXPECT_EQ(over.exit_code, 2) << over.err;
+}
+
+TEST_F(CliTest, CalibrateWithAnUnknownTargetKeyIsBadInputNamingTheKey) {
+  RenderCalibrationImages(Path("calib"), 1);
+  Write("target.yaml", std::string(kTargetYaml) + "colour: black\n");
+  const RunResult r = Run("calibrate calib --target target.yaml -o cam");
+  EXPECT_EQ(r.exit_code, 2);
+  EXPECT_NE(r.err.find("target.yaml"), std::string::npos) << r.err;
+  EXPECT_NE(r.err.find("colour"), std::string::npos) << r.err;
+  EXPECT_FALSE(fs::exists(Path("cam/camera.yaml")));
+}
+
+TEST_F(CliTest, CalibrateFromTwoViewsDoesNotSupportTheResult) {
+  RenderCalibrationImages(Path("calib"), 2);
+  Write("target.yaml", kTargetYaml);
+  const RunResult r = Run("calibrate calib --target target.yaml -o cam");
+  EXPECT_EQ(r.exit_code, 3) << r.err;
+  EXPECT_NE(r.err.find("at least 3"), std::string::npos) << r.err;
+  EXPECT_FALSE(fs::exists(Path("cam/camera.yaml")));
+}
+
+TEST_F(CliTest, CalibratePrintsTheTargetAsSvg) {
+  Write("target.yaml", kTargetYaml);
+  const RunResult r = Run("calibrate --target target.yaml --print board.svg");
+  ASSERT_EQ(r.exit_code, 0) << r.err;
+  EXPECT_NE(ReadText(Path("board.svg")).find("<svg"), std::string::npos);
+}
+
+TEST_F(CliTest, HelpOfTheSetUpCommandsSaysWhatTheyReadAndWrite) {
+  const RunResult calibrate = Run("calibrate --help");
+  EXPECT_EQ(calibrate.exit_code, 0);
+  for (const char* word : {"camera.yaml", "calibration.json", "Example", "--target", "--print"}) {
+    EXPECT_NE(calibrate.out.find(word), std::string::npos) << word;
+  }
+  const RunResult locate = Run("locate --help");
+  EXPECT_EQ(locate.exit_code, 0);
+  for (const char* word : {"camera.yaml", "pose.json", "Example", "--down", "--points"}) {
+    EXPECT_NE(locate.out.find(word), std::string::npos) << word;
+  }
+}
+
+// Without world_to_camera and with gravity as a magnitude the fit estimates gravity's
+// direction in the camera frame; with gravity as a world vector it is refused.
+TEST_F(CliTest, FitWithoutACameraPoseEstimatesGravitysDirection) {
+  SimulateInto(150);
+  std::string camera = ReadText(Path("sim/camera.yaml"));
+  camera = camera.substr(0, camera.find("world_to_camera"));
+  Write("sim/camera.yaml", camera);
+  std::string session = ReadText(Path("sim/session.yaml"));
+  const size_t at = session.find("gravity_mps2:");
+  ASSERT_NE(at, std::string::npos);
+  const std::string vector_session = session;
+  session.replace(at, session.find('\n', at) - at, "gravity_mps2: 9.80665");
+  Write("sim/session.yaml", session);
+  const RunResult r = Run("fit sim/session.yaml --tracks sim/tracks.csv -o out");
+  ASSERT_EQ(r.exit_code, 0) << r.err;
+  const json results = json::parse(ReadText(Path("out/results.json")));
+  EXPECT_GT(results["gravity"]["sigma_direction_deg"].get<double>(), 0.0);
+  // The simulated camera looks along world +y with its rows level: world -z is camera +y.
+  EXPECT_GT(results["gravity"]["direction_world"][1].get<double>(), 0.999);
+
+  Write("sim/session.yaml", vector_session);
+  const RunResult refused = Run("fit sim/session.yaml --tracks sim/tracks.csv -o out2");
+  EXPECT_EQ(refused.exit_code, 2);
+  EXPECT_NE(refused.err.find("world_to_camera"), std::string::npos) << refused.err;
+  EXPECT_NE(refused.err.find("magnitude"), std::string::npos) << refused.err;
 }
 
 }  // namespace

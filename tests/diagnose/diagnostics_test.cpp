@@ -25,6 +25,7 @@ Diagnosed FitAndDiagnose(const Scenario& s, FitOptions options, double stated_fp
   d.fit = FitFreeFlight(GroupByFrame(tracks, stated_fps), s.body, s.camera, options);
   DiagnoseOptions diagnose;
   diagnose.expected_gravity_mps2 = options.gravity_world_mps2;
+  diagnose.check_gravity = options.gravity_mode == GravityMode::kEstimate;
   d.diagnostics = Diagnose(d.fit, FreeFlightWindow{}, s.body, {s.camera}, diagnose);
   return d;
 }

@@ -249,11 +249,16 @@ TEST_F(CameraFileTest, ReadsTheContractExample) {
 
 TEST_F(CameraFileTest, SensorWindowShiftsThePrincipalPoint) {
   const Camera camera =
-      ReadCameraYaml(Write("image_size: [640, 200]\nfx: 2000\nfy: 2000\ncx: 1280\ncy: 512\n"
+      ReadCameraYaml(Write("image_size: [2560, 1024]\nfx: 2000\nfy: 2000\ncx: 1280\ncy: 512\n"
                            "distortion: [-0.1, 0.02, 0, 0]\n"
                            "sensor_window: {offset_px: [960, 400], size_px: [640, 200]}\n"));
   EXPECT_EQ(camera.intrinsics.cx_px, 320.0);
   EXPECT_EQ(camera.intrinsics.cy_px, 112.0);
+  // The window sets the image size; the full frame is kept for writing the file back.
+  EXPECT_EQ(camera.intrinsics.width_px, 640);
+  EXPECT_EQ(camera.intrinsics.height_px, 200);
+  ASSERT_TRUE(camera.sensor_window.has_value());
+  EXPECT_EQ(camera.sensor_window->full_size_px, Eigen::Vector2i(2560, 1024));
   EXPECT_EQ(camera.intrinsics.distortion[4], 0.0);  // four terms given: k3 = 0
   EXPECT_EQ(camera.intrinsics.distortion[1], 0.02);
   EXPECT_FALSE(camera.camera_from_world.has_value());
@@ -269,7 +274,8 @@ TEST_F(CameraFileTest, WriteThenReadGivesTheSameCamera) {
       Eigen::AngleAxisd(2.1, Eigen::Vector3d(1.0, 2.0, -0.5).normalized()).toRotationMatrix();
   pose.translation_m = Eigen::Vector3d(0.1 / 3.0, -0.7, 2.9);
   camera.camera_from_world = pose;
-  camera.sensor_window = SensorWindow{Eigen::Vector2d(64, 32), Eigen::Vector2i(1024, 768)};
+  camera.sensor_window = SensorWindow{Eigen::Vector2d(64, 32), Eigen::Vector2i(1024, 768),
+                                      Eigen::Vector2i(1280, 1024)};
   const fs::path path = folder_ / "camera.yaml";
   WriteCameraYaml(camera, path);
   const Camera back = ReadCameraYaml(path);
@@ -284,6 +290,7 @@ TEST_F(CameraFileTest, WriteThenReadGivesTheSameCamera) {
   EXPECT_LT((back.camera_from_world->rotation - pose.rotation).cwiseAbs().maxCoeff(), 1e-15);
   EXPECT_EQ(back.camera_from_world->translation_m, pose.translation_m);
   EXPECT_EQ(back.sensor_window->offset_px, camera.sensor_window->offset_px);
+  EXPECT_EQ(back.sensor_window->full_size_px, camera.sensor_window->full_size_px);
   // The file carries the full-frame principal point.
   std::ifstream in(path);
   const std::string text((std::istreambuf_iterator<char>(in)), std::istreambuf_iterator<char>());
@@ -347,14 +354,20 @@ TEST_F(CameraFileTest, DistortionNeedsFourOrFiveTerms) {
             "k3 = 0), got '[0, 0, 0]'");
 }
 
-TEST_F(CameraFileTest, WindowSizeMustMatchTheImage) {
+TEST_F(CameraFileTest, WindowMustLieInsideTheFullFrame) {
   const std::string message = ErrorReading(
       "image_size: [1024, 768]\nfx: 1400\nfy: 1400\ncx: 512\ncy: 384\n"
       "distortion: [0, 0, 0, 0, 0]\n"
-      "sensor_window:\n  offset_px: [0, 0]\n  size_px: [1024, 700]\n");
+      "sensor_window:\n  offset_px: [0, 100]\n  size_px: [1024, 700]\n");
   EXPECT_EQ(message,
-            "camera.yaml:9: key 'sensor_window.size_px': expected the same size as image_size "
-            "[1024, 768], got '[1024, 700]'");
+            "camera.yaml:9: key 'sensor_window.size_px': expected a window inside the full frame "
+            "image_size [1024, 768] (offset [0, 100] + size [1024, 700] reaches [1024, 800]), got "
+            "'[1024, 700]'");
+  EXPECT_NE(ErrorReading("image_size: [1024, 768]\nfx: 1400\nfy: 1400\ncx: 512\ncy: 384\n"
+                         "distortion: [0, 0, 0, 0, 0]\n"
+                         "sensor_window: {offset_px: [-2, 0], size_px: [64, 64]}\n")
+                .find("offset_px"),
+            std::string::npos);
 }
 
 TEST_F(CameraFileTest, ImageSizeMustBeWholePixels) {

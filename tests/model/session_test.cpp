@@ -114,6 +114,33 @@ class SessionFileTest : public ::testing::Test {
   fs::path folder_;
 };
 
+// A full-frame calibration and a clip recorded with a cropped read-out: the session gives
+// the window.
+TEST_F(SessionFileTest, SessionSensorWindowCropsTheFullFrameCalibration) {
+  const Session session =
+      ReadSessionYaml(WriteSession("sensor_window: {offset_px: [192, 128], size_px: [640, 512]}\n"));
+  const CameraIntrinsics& k = session.cameras[0].camera.intrinsics;
+  EXPECT_EQ(k.width_px, 640);
+  EXPECT_EQ(k.height_px, 512);
+  EXPECT_EQ(k.cx_px, 512.0 - 192);
+  EXPECT_EQ(k.cy_px, 384.0 - 128);
+  // Written back and read again: the same window.
+  WriteSessionYaml(session, folder_ / "again.yaml");
+  const Session again = ReadSessionYaml(folder_ / "again.yaml");
+  EXPECT_EQ(again.cameras[0].camera.intrinsics.cx_px, k.cx_px);
+  EXPECT_EQ(again.cameras[0].camera.intrinsics.width_px, 640);
+}
+
+TEST_F(SessionFileTest, SessionSensorWindowOutsideTheFullFrameIsRefused) {
+  const std::string message =
+      ErrorReading("sensor_window: {offset_px: [512, 0], size_px: [640, 512]}\n");
+  EXPECT_NE(message.find("session.yaml:5: key 'sensor_window': expected a window inside the "
+                         "full frame image_size [1024, 768]"),
+            std::string::npos)
+      << message;
+  EXPECT_NE(message.find("cal/camera.yaml"), std::string::npos) << message;
+}
+
 TEST_F(SessionFileTest, ResolvesFilesBesideTheSession) {
   const Session session = ReadSessionYaml(WriteSession(""));
   EXPECT_EQ(session.file, folder_ / "session.yaml");
@@ -449,7 +476,7 @@ TEST_F(SessionListTest, BadCamerasAreNamedByTheirPlaceInTheList) {
        "session.yaml:4: key 'cameras[1].name': expected a non-empty name for the camera, got ''"},
       {"camera: cal/camera.yaml}", "camera: cal/camera.yaml, fps: 3}",
        "session.yaml:3: unknown key 'fps' in 'cameras[0]'; allowed: camera, capture_fps, clip, "
-       "name, time_offset_s"},
+       "name, sensor_window, time_offset_s"},
       {"capture_fps: 1000,", "capture_fps: -5,",
        "session.yaml:4: key 'cameras[1].capture_fps': expected a positive capture rate in frames "
        "per second, got '-5'"},

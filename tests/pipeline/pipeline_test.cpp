@@ -336,7 +336,7 @@ TEST(Pipeline, TrackingReportsProgressOverEveryCamera) {
   EXPECT_GT(side_points, 30 * 6 * 9 / 10);
 }
 
-TEST(Pipeline, FitNeedsThePoseOfEveryCameraAndNamesTheOneWithout) {
+TEST(Pipeline, FitNeedsThePoseOfEveryCameraButTheFirstAndNamesTheOneWithout) {
   Session session;
   session.file = "session.yaml";
   session.gravity.vector_mps2 = Eigen::Vector3d(0, 0, -9.81);
@@ -347,14 +347,80 @@ TEST(Pipeline, FitNeedsThePoseOfEveryCameraAndNamesTheOneWithout) {
   const FitOptions options = FitOptionsFor(session);
   EXPECT_EQ(options.time_offsets_s, (std::vector<double>{0.0, 2e-4}));
   EXPECT_TRUE(options.estimate_time_offsets);
+  EXPECT_EQ(options.gravity_mode, GravityMode::kFixed);
   session.cameras[1].camera.camera_from_world.reset();
   try {
     FitOptionsFor(session);
     ADD_FAILURE() << "no InputError";
   } catch (const InputError& e) {
     EXPECT_EQ(std::string(e.what()),
-              "session.yaml: camera 'side' (side.yaml): the fit needs world_to_camera in every "
-              "camera file; estimating the camera's pose from the flight is not available yet");
+              "session.yaml: camera 'side' (side.yaml): world_to_camera is missing; every camera "
+              "but the first needs it (without the first camera's pose, the world frame is that "
+              "camera's frame and the others' poses are relative to it)");
+  }
+}
+
+// Without the first camera's pose: gravity as a magnitude gives a fit of its direction;
+// gravity as a world vector has no world frame to be in, and is refused.
+TEST(Pipeline, AFirstCameraWithoutAPoseNeedsGravityAsAMagnitude) {
+  Session session;
+  session.file = "session.yaml";
+  Camera camera = testing::FacingCamera();
+  camera.camera_from_world.reset();
+  session.cameras.push_back({"camera", "clip.mp4", 1000.0, "camera.yaml", camera, 0.0});
+  session.gravity.magnitude_mps2 = 9.81;
+  const FitOptions options = FitOptionsFor(session);
+  EXPECT_EQ(options.gravity_mode, GravityMode::kDirection);
+  EXPECT_DOUBLE_EQ(options.gravity_world_mps2.norm(), 9.81);
+  session.gravity = GravitySpec{};
+  session.gravity.vector_mps2 = Eigen::Vector3d(0, 0, -9.81);
+  try {
+    FitOptionsFor(session);
+    ADD_FAILURE() << "no InputError";
+  } catch (const InputError& e) {
+    const std::string message = e.what();
+    EXPECT_NE(message.find("camera 'camera' (camera.yaml) has no world_to_camera"), std::string::npos)
+        << message;
+    EXPECT_NE(message.find("gravity_mps2: 9.81"), std::string::npos) << message;
+  }
+}
+
+// A clip recorded through a 320 x 240 window of a full-frame (1024 x 768) calibration: refused
+// against the full-frame camera file, naming both sizes; accepted once the session gives the
+// window.
+TEST(Pipeline, AClipOfAnotherSizeThanItsCameraIsRefusedUntilTheWindowIsGiven) {
+  testing::TempDir dir("pipeline_window");
+  Scenario s = ClipScenario(testing::PlanarSpinScenario(0.0, 60));
+  s.camera = testing::CentralWindow(s.camera, 320, 240);
+  s.frames = 12;
+  s.video.supersampling = 1;
+  s.video.exposure_samples = 1;
+  s.video.image_folder = true;
+  WriteSimulation(SimulateFlight(s), dir.path(), {});
+  Camera full = testing::FacingCamera();  // the full frame the window was cut from
+  WriteCameraYaml(full, dir.path() / "camera.yaml");
+  Session session = ReadSessionYaml(dir.path() / "session.yaml");
+  try {
+    TrackClip(session, TrackingOptions{}, {});
+    ADD_FAILURE() << "no InputError";
+  } catch (const InputError& e) {
+    const std::string message = e.what();
+    EXPECT_NE(message.find("320 x 240 px"), std::string::npos) << message;
+    EXPECT_NE(message.find("1024 x 768 px"), std::string::npos) << message;
+    EXPECT_NE(message.find("sensor_window"), std::string::npos) << message;
+  }
+  {
+    std::ofstream(dir.path() / "session.yaml", std::ios::app)
+        << "sensor_window: {offset_px: [352, 264], size_px: [320, 240]}\n";
+  }
+  session = ReadSessionYaml(dir.path() / "session.yaml");
+  EXPECT_EQ(session.cameras[0].camera.intrinsics.cx_px, s.camera.intrinsics.cx_px);
+  try {
+    TrackClip(session, TrackingOptions{}, {});
+  } catch (const InputError& e) {
+    ADD_FAILURE() << e.what();
+  } catch (const DataError&) {
+    // twelve frames may not identify every marker: not what this test is about
   }
 }
 

@@ -86,6 +86,7 @@ struct Diagnostics {
 
 struct DiagnoseOptions {
   Eigen::Vector3d expected_gravity_mps2 = {0, 0, -9.80665};  // the session's
+  bool check_gravity = false;            // the fit estimated all of g (--estimate-gravity)
   double gravity_z_limit = 3.0;          // the check flags beyond this many sigma ...
   double gravity_relative_limit = 2e-3;  // ... and this relative difference
   double runs_z_limit = 3.0;

@@ -53,6 +53,9 @@ struct HeldInertia {
 enum class GravityMode {
   kFixed,          // g from the session, held fixed
   kEstimate,       // all three components estimated (a check of scale and timing)
+  kDirection,      // the direction estimated, the magnitude held at |gravity_world_mps2|
+                   // (ceres::SphereManifold<3>): a camera without a pose, whose frame is
+                   // then the world frame
 };
 
 struct FitOptions {
@@ -210,7 +213,9 @@ struct FitResult {
 
 // Fits the model. Throws DataError when the sightings cannot support a fit (too few frames
 // or markers for the initialisation), InputError for options or markers not in the body.
-// `frames[i].camera` indexes `cameras`; every camera needs world_to_camera.
+// `frames[i].camera` indexes `cameras`; every camera but the first needs world_to_camera.
+// A first camera without one makes its own frame the world frame (x right, y down, z along
+// the optical axis); the other cameras' poses are then relative to it.
 FitResult FitFreeFlight(const std::vector<FrameSightings>& frames, const Body& body,
                         const std::vector<Camera>& cameras, const FitOptions& options);
 // One camera.

@@ -91,6 +91,9 @@ struct FlightSummary {
 
   Eigen::Vector3d gravity_world_mps2 = Eigen::Vector3d::Zero();
   std::optional<Eigen::Vector3d> sigma_gravity_mps2;  // when estimated
+  // When g (or its direction) was estimated: the 1-sigma of its direction as an angle, deg
+  // (the rms angle: sqrt of the trace of its covariance across g).
+  std::optional<double> sigma_gravity_direction_deg;
 
   // Rotation model and what the rotation tells of the body.
   RotationModel rotation_model = RotationModel::kConstantSpin;

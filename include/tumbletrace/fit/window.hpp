@@ -9,7 +9,8 @@
 //    than 4 standard deviations above their expected chi-square, or their mean is no more
 //    than twice the noise variance (compressed video leaves residuals correlated in time,
 //    whose chi-square exceeds the independent-noise bound without any break; a break
-//    worth cutting raises the residuals well above the noise within a few frames);
+//    worth cutting raises the residuals well above the noise within a few frames); a
+//    refused chunk is halved and tried again down to the smallest chunk;
 // 3. at an end where a chunk was refused, the break is located by a change-point scan over
 //    the frames around it: for each candidate last free frame b, the frames up to b are
 //    scored against the model and the frames after it against the model plus a rigid

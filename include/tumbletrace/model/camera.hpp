@@ -14,13 +14,17 @@
 #include <array>
 #include <filesystem>
 #include <optional>
+#include <string>
 
 namespace tumbletrace {
 
 // A cropped sensor read-out of a full-frame calibration (high-speed cameras at high rates).
+// The calibration (image_size, cx, cy) is of the full frame; the recorded image is the
+// window: cx -= offset x, cy -= offset y, and the image size is the window's.
 struct SensorWindow {
   Eigen::Vector2d offset_px = Eigen::Vector2d::Zero();  // top-left of the window on the sensor
   Eigen::Vector2i size_px = Eigen::Vector2i::Zero();    // width, height of the window
+  Eigen::Vector2i full_size_px = Eigen::Vector2i::Zero();  // the full frame (image_size)
 };
 
 struct CameraIntrinsics {
@@ -48,8 +52,15 @@ struct Camera {
   CameraIntrinsics intrinsics;
   // Absent: the camera frame is the world frame (the fit then estimates gravity's direction).
   std::optional<RigidTransform> camera_from_world;
-  std::optional<SensorWindow> sensor_window;  // as read; already folded into cx, cy
+  std::optional<SensorWindow> sensor_window;  // as read; already folded into cx, cy and size
 };
+
+// Empty when `window` lies inside the full frame of `full` intrinsics (offset >= 0 whole
+// pixels, offset + size <= the full size); otherwise what is wrong, in words.
+std::string SensorWindowProblem(const CameraIntrinsics& full, const SensorWindow& window);
+// Applies a window to a full-frame calibration: shifts the principal point and sets the image
+// size to the window's (model/camera.cpp). The caller has checked SensorWindowProblem.
+void ApplySensorWindow(const SensorWindow& window, Camera* camera);
 
 // Projects a point in the camera frame to distorted pixels. Templated so that Ceres can
 // differentiate through it. Returns false when the point is not in front of the camera.

@@ -50,6 +50,11 @@ struct SessionCamera {
   std::filesystem::path camera_file;  // resolved relative to the session file
   Camera camera;
   double time_offset_s = 0.0;
+  // The session's own sensor_window for this camera (a clip recorded with a cropped
+  // read-out of a full-frame calibration), applied to `camera` when read; `window_where`
+  // names the key for messages.
+  std::optional<SensorWindow> sensor_window;
+  std::string window_where;
 };
 
 // The name the single-camera form gives its camera.

@@ -77,8 +77,10 @@ Analysis AnalyzeSession(const Session& session, const TrackingOptions& tracking,
                         const FitOptions& fit, const Progress& progress);
 
 // The fit options a session implies (gravity, window, the cameras' clock offsets and whether
-// to estimate them); throws InputError for a session the fit cannot take yet (gravity
-// without direction, a camera without pose, named).
+// to estimate them). Gravity given as a magnitude: its direction is estimated
+// (GravityMode::kDirection). Throws InputError, naming the camera file, for a camera other
+// than the first without a pose, and for a first camera without a pose with gravity given as
+// a world vector.
 FitOptions FitOptionsFor(const Session& session);
 
 }  // namespace tumbletrace
