@@ -6,6 +6,7 @@
 #include <algorithm>
 #include <cmath>
 #include <opencv2/calib3d.hpp>
+#include <opencv2/core/version.hpp>
 #include <opencv2/core/eigen.hpp>
 
 #include "tumbletrace/core/error.hpp"
@@ -89,6 +90,22 @@ Pass RunOpenCv(const OpenCvViews& views, cv::Size size, const CalibrationOptions
                                 "all show the board from one direction",
                                 e.err));
   }
+#if CV_VERSION_MAJOR < 4 || (CV_VERSION_MAJOR == 4 && CV_VERSION_MINOR < 7)
+  // OpenCV before 4.7 divides the residuals' sum of squares by (points - parameters) where
+  // the residual count is twice the points (opencv/opencv issue 19803, fixed by pull
+  // request 22992): its variance is about twice the least-squares estimate
+  // sum r^2 / (2 points - parameters), and its standard deviations sqrt(2) too large.
+  // Rescaled here to the unbiased estimate.
+  {
+    int points = 0;
+    for (const auto& view : views.object) points += static_cast<int>(view.size());
+    const int parameters = 6 + (options.estimate_tangential ? 2 : 0) + (options.estimate_k3 ? 1 : 0) +
+                           6 * static_cast<int>(views.object.size());
+    if (2 * points > parameters && points > parameters) {
+      pass.std_intrinsics *= std::sqrt(double(points - parameters) / double(2 * points - parameters));
+    }
+  }
+#endif
   if (!cv::checkRange(pass.k) || !cv::checkRange(pass.d) || pass.k.at<double>(0, 0) <= 0 ||
       pass.k.at<double>(1, 1) <= 0) {
     throw DataError("the calibration did not give finite, positive focal lengths: the views "
@@ -203,7 +220,7 @@ CameraCalibration CalibrateCamera(const std::vector<TargetView>& views,
   k.cy_px = pass.k.at<double>(1, 2);
   for (int i = 0; i < 5; ++i) k.distortion[i] = pass.d.at<double>(i);
   // OpenCV's standard deviations: sqrt of the diagonal of (J^T J)^-1 scaled by the residual
-  // variance, in the order fx, fy, cx, cy, k1, k2, p1, p2, k3, ...
+  // variance (rescaled above), in the order fx, fy, cx, cy, k1, k2, p1, p2, k3, ...
   const auto sd = [&](int i) { return pass.std_intrinsics.at<double>(i); };
   for (int i = 0; i < 4; ++i) out.sigma_fx_fy_cx_cy_px[i] = sd(i);
   const bool estimated[5] = {true, true, options.estimate_tangential, options.estimate_tangential,
