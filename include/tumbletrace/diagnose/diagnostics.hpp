@@ -10,7 +10,6 @@
 #include <vector>
 
 #include "tumbletrace/fit/free_flight_fit.hpp"
-#include "tumbletrace/fit/observations.hpp"
 #include "tumbletrace/fit/window.hpp"
 #include "tumbletrace/model/body.hpp"
 #include "tumbletrace/model/camera.hpp"
