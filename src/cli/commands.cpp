@@ -15,6 +15,7 @@
 #include "tumbletrace/model/session.hpp"
 #include "tumbletrace/model/tracks.hpp"
 #include "tumbletrace/pipeline/pipeline.hpp"
+#include "tumbletrace/report/html_report.hpp"
 #include "tumbletrace/report/results.hpp"
 #include "tumbletrace/sim/simulate.hpp"
 
@@ -97,14 +98,17 @@ FitOptions FitOptionsFor(const Session& session, const FitChoices& choices) {
   return options;
 }
 
-// results.json last: its presence says the run completed.
-void WriteFitOutputs(const FlightAnalysis& flight, const Provenance& provenance,
+// results.json after the CSV files: its presence says the fit's files are complete; the
+// report is made from them alone, as `report DIR` makes it.
+void WriteFitOutputs(const FlightAnalysis& flight, const Provenance& provenance, const Body& body,
                      const std::filesystem::path& out_dir, const CommonOptions& common) {
   std::filesystem::create_directories(out_dir);
   WriteFramesCsv(flight.fit, flight.summary, out_dir / "frames.csv", flight.diagnostics);
   WriteResidualsCsv(flight.fit, out_dir / "residuals.csv");
-  WriteResultsJson(ResultsJson(flight.fit, flight.summary, provenance, flight.diagnostics),
-                   out_dir / "results.json");
+  nlohmann::json results = ResultsJson(flight.fit, flight.summary, provenance, flight.diagnostics);
+  AddReportKeys(&results, body, provenance.input_files);
+  WriteResultsJson(results, out_dir / "results.json");
+  WriteHtmlReport(out_dir);
   if (!common.quiet) {
     std::cout << SummaryText(flight.fit, flight.summary, flight.diagnostics);
   } else {
@@ -112,7 +116,8 @@ void WriteFitOutputs(const FlightAnalysis& flight, const Provenance& provenance,
   }
 }
 
-Provenance MakeProvenance(const Session& session, const CommonOptions& common) {
+// The session's files; with `with_clips`, each camera's clip too (what `analyze` reads).
+Provenance MakeProvenance(const Session& session, const CommonOptions& common, bool with_clips) {
   Provenance provenance;
   provenance.tool_version = TUMBLETRACE_VERSION;
   provenance.command = common.command_line;
@@ -121,6 +126,9 @@ Provenance MakeProvenance(const Session& session, const CommonOptions& common) {
     provenance.input_files.push_back(camera.camera_file);
   }
   provenance.input_files.push_back(session.body_file);
+  if (with_clips) {
+    for (const SessionCamera& camera : session.cameras) provenance.input_files.push_back(camera.clip);
+  }
   provenance.capture_fps = session.capture_fps;
   return provenance;
 }
@@ -212,9 +220,9 @@ int RunFit(const FitCommandOptions& options, const CommonOptions& common) {
   for (std::string& w : CamerasWithoutSightings(tracks, options.tracks, session)) {
     flight.fit.warnings.push_back(std::move(w));
   }
-  Provenance provenance = MakeProvenance(session, common);
+  Provenance provenance = MakeProvenance(session, common, false);
   provenance.input_files.push_back(options.tracks);
-  WriteFitOutputs(flight, provenance, options.out_dir, common);
+  WriteFitOutputs(flight, provenance, session.body, options.out_dir, common);
   return 0;
 }
 
@@ -239,7 +247,14 @@ int RunAnalyze(const AnalyzeOptions& options, const CommonOptions& common) {
   std::filesystem::create_directories(options.out_dir);
   WriteTracksCsv(analysis.tracking.points, options.out_dir / "tracks.csv");
   if (!common.quiet) std::cout << TrackingSummary(analysis.tracking);
-  WriteFitOutputs(analysis.flight, MakeProvenance(session, common), options.out_dir, common);
+  WriteFitOutputs(analysis.flight, MakeProvenance(session, common, true), session.body,
+                  options.out_dir, common);
+  return 0;
+}
+
+int RunReport(const ReportOptions& options, const CommonOptions& common) {
+  WriteHtmlReport(options.dir);
+  if (!common.quiet) std::cout << "Wrote " << (options.dir / "report.html").string() << "\n";
   return 0;
 }
 
