@@ -4,6 +4,8 @@
 #include <fmt/ranges.h>
 #include <unistd.h>
 
+#include <cctype>
+#include <cmath>
 #include <cstdio>
 #include <iostream>
 #include <map>
@@ -16,6 +18,7 @@
 #include "tumbletrace/model/tracks.hpp"
 #include "tumbletrace/pipeline/pipeline.hpp"
 #include "tumbletrace/report/html_report.hpp"
+#include "tumbletrace/report/overlay.hpp"
 #include "tumbletrace/report/results.hpp"
 #include "tumbletrace/sim/simulate.hpp"
 
@@ -205,6 +208,38 @@ std::vector<std::string> CamerasWithoutSightings(const std::vector<TrackPoint>& 
   return warnings;
 }
 
+// overlay.mp4 (one camera) or overlay_<name>.mp4 (several): each camera's clip with the fit
+// drawn on it. The window's frames of camera k are those whose world time lies in the first
+// camera's window: t = i / fps_k + offset_k.
+void WriteOverlays(const Session& session, const Analysis& analysis,
+                   const std::filesystem::path& out_dir) {
+  const FitResult& fit = analysis.flight.fit;
+  const std::vector<Camera> cameras = session.CameraModels();
+  const std::vector<double> rates = session.CaptureRates();
+  const double t_first = fit.first_frame / rates[0], t_last = fit.last_frame / rates[0];
+  for (size_t k = 0; k < session.cameras.size(); ++k) {
+    OverlayInput input;
+    input.clip = session.cameras[k].clip;
+    input.camera = cameras[k];
+    input.camera_index = static_cast<int>(k);
+    input.capture_fps = rates[k];
+    input.parameters = &fit.parameters;
+    input.markers = session.body.markers;
+    for (const TrackPoint& p : analysis.tracking.points) {
+      if (p.camera == static_cast<int>(k)) input.detections.push_back(p);
+    }
+    const double offset = fit.parameters.TimeOffsetS(static_cast<int>(k));
+    input.first_frame = static_cast<int>(std::ceil((t_first - offset) * rates[k] - 1e-6));
+    input.last_frame = static_cast<int>(std::floor((t_last - offset) * rates[k] + 1e-6));
+    std::string safe = session.cameras[k].name;
+    for (char& c : safe) {
+      if (!std::isalnum(static_cast<unsigned char>(c)) && c != '-' && c != '_') c = '_';
+    }
+    const std::string name = session.cameras.size() == 1 ? "overlay.mp4" : "overlay_" + safe + ".mp4";
+    WriteOverlayVideo(input, out_dir / name);
+  }
+}
+
 }  // namespace
 
 int RunFit(const FitCommandOptions& options, const CommonOptions& common) {
@@ -249,6 +284,7 @@ int RunAnalyze(const AnalyzeOptions& options, const CommonOptions& common) {
   if (!common.quiet) std::cout << TrackingSummary(analysis.tracking);
   WriteFitOutputs(analysis.flight, MakeProvenance(session, common, true), session.body,
                   options.out_dir, common);
+  WriteOverlays(session, analysis, options.out_dir);
   return 0;
 }
 

@@ -70,7 +70,8 @@ int main(int argc, char** argv) {
       "drag models, and writes results.json (CM in the body frame, launch state, spin, "
       "principal axes and moment ratios when the body tumbles, drag, all with uncertainty; "
       "the window, break flags and residual checks), frames.csv, residuals.csv, "
-      "tracks.csv and report.html (the fit report), and prints a summary.");
+      "tracks.csv, report.html (the fit report) and overlay.mp4 (the clip with the fit drawn "
+      "on it; overlay_<camera>.mp4 with several cameras), and prints a summary.");
   analyze_cmd->add_option("session", analyze.session, "session YAML file")->required()->check(CLI::ExistingFile);
   analyze_cmd->add_option("-o,--out", analyze.out_dir, "output folder (created when missing)")->required();
   AddFitChoices(analyze_cmd, &analyze.choices);

@@ -241,6 +241,7 @@ TEST_F(CliTest, FitOfSimulatedTracksRecoversTheCmAndWritesItsFiles) {
   EXPECT_NE(r.out.find("mm"), std::string::npos) << r.out;
   EXPECT_NE(r.out.find("rev/s"), std::string::npos) << r.out;
   EXPECT_TRUE(fs::is_regular_file(Path("out/report.html")));
+  EXPECT_FALSE(fs::exists(Path("out/overlay.mp4")));  // fit reads no clip
 }
 
 TEST_F(CliTest, ReportRewritesThePageFromTheResultsFolderAlone) {
@@ -469,7 +470,7 @@ TEST_F(CliTest, HelpOfTheProgramAndEachCommandSaysWhatItWrites) {
       {"simulate --help", {"clip.mp4", "session.yaml", "truth.json", "tracks.csv", "--no-video"}},
       {"fit --help", {"results.json", "frames.csv", "residuals.csv", "--tracks", "--drag",
                       "--whole-clip", "--estimate-gravity", "--first-frame"}},
-      {"analyze --help", {"free-flight", "drag", "results.json", "tracks.csv", "report.html"}},
+      {"analyze --help", {"free-flight", "drag", "results.json", "tracks.csv", "report.html", "overlay.mp4"}},
       {"report --help", {"report.html", "results.json", "frames.csv"}},
   };
   for (const Case& c : cases) {
@@ -519,12 +520,16 @@ TEST_F(CliClipTest, AnalyzeOfAClipWritesEveryResultAndRecoversTheCm) {
   const RunResult r = Run("analyze sim/session.yaml -o out");
   ASSERT_EQ(r.exit_code, 0) << r.err;
   for (const char* name :
-       {"results.json", "frames.csv", "residuals.csv", "tracks.csv", "report.html"}) {
+       {"results.json", "frames.csv", "residuals.csv", "tracks.csv", "report.html", "overlay.mp4"}) {
     EXPECT_TRUE(fs::is_regular_file(Path("out") / name)) << name;
   }
   const json results = json::parse(ReadText(Path("out/results.json")));
   const json truth = json::parse(ReadText(Path("sim/truth.json")));
   EXPECT_NEAR(results["cm"]["body_m"][0].get<double>(), truth["cm"]["body_m"][0].get<double>(), 1.5e-3);
+  // The overlay has every frame of the clip, in colour.
+  cv::VideoCapture overlay(Path("out/overlay.mp4").string());
+  ASSERT_TRUE(overlay.isOpened());
+  EXPECT_EQ(static_cast<int>(overlay.get(cv::CAP_PROP_FRAME_COUNT)), 120);
   // The clip is among the input files, with its size.
   const json& clip = results.at("inputs").at("file_details").back();
   EXPECT_EQ(clip.at("bytes").get<std::uintmax_t>(), fs::file_size(Path("sim/clip.mp4")));
