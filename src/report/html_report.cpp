@@ -762,7 +762,8 @@ std::string ProvenanceSection(const ReportData& data) {
   if (const std::optional<double> fps = Number(r, "inputs.capture_fps")) html += Row("capture rate", Plain(*fps, 6) + " frames/s");
   html += Row("rotation model choice", H(Text(r, "rotation.criterion")));
   html += Row("air model choice", H(Text(r, "drag.criterion")));
-  html += Row("window", H(Text(r, "window.criterion")));
+  html += Row("free-flight window", Flag(r, "window.detected") ? "found from the data" : "given, or every frame",
+              H(Text(r, "window.criterion")));
   if (const std::optional<Eigen::Vector3d> g = Vector3(r, "gravity.world_mps2")) {
     html += Row("gravity (world)", fmt::format("[{}, {}, {}] m/s²", Plain(g->x()), Plain(g->y()), Plain(g->z())),
                 Flag(r, "gravity.estimated") ? "estimated by the fit" : "as given");
@@ -817,6 +818,7 @@ h1 { font-size: 1.5em; margin-bottom: 0.2em; } h2 { font-size: 1.2em; border-bot
 table { border-collapse: collapse; margin: 0.5em 0; } th, td { text-align: left; padding: 3px 10px 3px 0; vertical-align: top; }
 table.results th { font-weight: normal; color: #444; white-space: nowrap; } table.results td { font-weight: bold; }
 table.results td.note { font-weight: normal; color: #555; font-size: 0.9em; }
+table.results td:nth-child(2) { min-width: 15em; }
 table.files td, table.files th { border-bottom: 1px solid #eee; font-size: 0.9em; } code { font-size: 0.85em; word-break: break-all; }
 .nd { color: #8a6500; font-style: italic; font-weight: bold; }
 .grid { display: flex; flex-wrap: wrap; gap: 12px; }
