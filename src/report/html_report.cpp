@@ -801,8 +801,8 @@ sightings are outliers, when its rms exceeds 1 px
 (a marker's centre is found to a fraction of a pixel) or is more than twice the median frame's
 rms (some frames the model misses), when the runs test finds residuals so correlated in time that
 the sigmas may be more than 1.5 times too small, or when a
-flag says the model breaks within the fitted frames (release, contact, impact, a marker, frames);
-it asks for caution when only warnings or other flags remain.</p>
+flag says the model breaks within the fitted frames (release, contact, impact, a marker, frames;
+flags outside them mark the window's ends); it asks for caution when only warnings or other flags remain.</p>
 )";
 
 constexpr const char* kStyle = R"(
@@ -895,9 +895,16 @@ Verdict AssessFit(const ReportData& data) {
     // listed under the diagnostics).
     std::vector<std::string> kinds;
     std::map<std::string, std::pair<int, std::string>> by_kind;
+    // A flag outside the fitted frames (the hand before the window, the net after it) says
+    // where the window ends, not that the fit is wrong: it is listed under the diagnostics.
+    const double first = Number(r, "window.first_frame").value_or(-HUGE_VAL);
+    const double last = Number(r, "window.last_frame").value_or(HUGE_VAL);
     for (const json& f : *flags) {
       const std::string kind = f.value("kind", "");
       if (kind == "correlated-residuals") continue;  // the runs test's, judged above
+      const double from = f.contains("first_frame") && f["first_frame"].is_number() ? f["first_frame"].get<double>() : -HUGE_VAL;
+      const double to = f.contains("last_frame") && f["last_frame"].is_number() ? f["last_frame"].get<double>() : HUGE_VAL;
+      if (to < first || from > last) continue;
       auto [it, added] = by_kind.try_emplace(kind, 0, f.value("sentence", std::string()));
       if (added) kinds.push_back(kind);
       ++it->second.first;

@@ -131,6 +131,22 @@ TEST_F(HtmlReportTest, RmsFarAboveTheTypicalFramesIsPoorEvenBelowOnePixel) {
   EXPECT_NE(verdict.reasons.front().find("median frame"), std::string::npos);
 }
 
+TEST_F(HtmlReportTest, FlagsOutsideTheFittedFramesMarkTheWindowAndDoNotMakeTheFitPoor) {
+  testing::TempDir ends("html_report_ends");
+  for (const char* f : {"frames.csv", "residuals.csv"}) fs::copy_file(dir() / f, ends.path() / f);
+  json r = ReadJson(dir() / "results.json");
+  const int first = r["window"]["first_frame"], last = r["window"]["last_frame"];
+  r["diagnostics"]["flags"] = json::array(
+      {{{"kind", "release"}, {"first_frame", nullptr}, {"last_frame", first - 1}, {"sentence", "In the hand before."}},
+       {{"kind", "impact"}, {"first_frame", last + 1}, {"last_frame", nullptr}, {"sentence", "The net after."}}});
+  WriteJson(r, ends.path() / "results.json");
+  const ReportData data = ReadReportData(ends.path());
+  EXPECT_NE(AssessFit(data).level, Verdict::Level::kPoor);
+  const std::string html = HtmlReport(data);
+  EXPECT_NE(html.find("The net after."), std::string::npos);  // listed under the diagnostics
+  EXPECT_NE(html.find("flag: impact"), std::string::npos);    // and on the time axes
+}
+
 TEST(HtmlReportTumble, FreeTopShowsInertiaRatiosAndTheAngularMomentumCheck) {
   const Scenario s = testing::FlipScenario(0.2, 3);
   FitOptions options = testing::DefaultFitOptions(s);
