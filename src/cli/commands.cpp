@@ -4,6 +4,8 @@
 #include <fmt/ranges.h>
 #include <unistd.h>
 
+#include <cctype>
+#include <cmath>
 #include <cstdio>
 #include <iostream>
 #include <map>
@@ -15,6 +17,8 @@
 #include "tumbletrace/model/session.hpp"
 #include "tumbletrace/model/tracks.hpp"
 #include "tumbletrace/pipeline/pipeline.hpp"
+#include "tumbletrace/report/html_report.hpp"
+#include "tumbletrace/report/overlay.hpp"
 #include "tumbletrace/report/results.hpp"
 #include "tumbletrace/sim/simulate.hpp"
 
@@ -97,14 +101,17 @@ FitOptions FitOptionsFor(const Session& session, const FitChoices& choices) {
   return options;
 }
 
-// results.json last: its presence says the run completed.
-void WriteFitOutputs(const FlightAnalysis& flight, const Provenance& provenance,
+// results.json after the CSV files: its presence says the fit's files are complete; the
+// report is made from them alone, as `report DIR` makes it.
+void WriteFitOutputs(const FlightAnalysis& flight, const Provenance& provenance, const Body& body,
                      const std::filesystem::path& out_dir, const CommonOptions& common) {
   std::filesystem::create_directories(out_dir);
   WriteFramesCsv(flight.fit, flight.summary, out_dir / "frames.csv", flight.diagnostics);
   WriteResidualsCsv(flight.fit, out_dir / "residuals.csv");
-  WriteResultsJson(ResultsJson(flight.fit, flight.summary, provenance, flight.diagnostics),
-                   out_dir / "results.json");
+  nlohmann::json results = ResultsJson(flight.fit, flight.summary, provenance, flight.diagnostics);
+  AddReportKeys(&results, body, provenance.input_files);
+  WriteResultsJson(results, out_dir / "results.json");
+  WriteHtmlReport(out_dir);
   if (!common.quiet) {
     std::cout << SummaryText(flight.fit, flight.summary, flight.diagnostics);
   } else {
@@ -112,7 +119,8 @@ void WriteFitOutputs(const FlightAnalysis& flight, const Provenance& provenance,
   }
 }
 
-Provenance MakeProvenance(const Session& session, const CommonOptions& common) {
+// The session's files; with `with_clips`, each camera's clip too (what `analyze` reads).
+Provenance MakeProvenance(const Session& session, const CommonOptions& common, bool with_clips) {
   Provenance provenance;
   provenance.tool_version = TUMBLETRACE_VERSION;
   provenance.command = common.command_line;
@@ -121,6 +129,9 @@ Provenance MakeProvenance(const Session& session, const CommonOptions& common) {
     provenance.input_files.push_back(camera.camera_file);
   }
   provenance.input_files.push_back(session.body_file);
+  if (with_clips) {
+    for (const SessionCamera& camera : session.cameras) provenance.input_files.push_back(camera.clip);
+  }
   provenance.capture_fps = session.capture_fps;
   return provenance;
 }
@@ -197,6 +208,38 @@ std::vector<std::string> CamerasWithoutSightings(const std::vector<TrackPoint>& 
   return warnings;
 }
 
+// overlay.mp4 (one camera) or overlay_<name>.mp4 (several): each camera's clip with the fit
+// drawn on it. The window's frames of camera k are those whose world time lies in the first
+// camera's window: t = i / fps_k + offset_k.
+void WriteOverlays(const Session& session, const Analysis& analysis,
+                   const std::filesystem::path& out_dir) {
+  const FitResult& fit = analysis.flight.fit;
+  const std::vector<Camera> cameras = session.CameraModels();
+  const std::vector<double> rates = session.CaptureRates();
+  const double t_first = fit.first_frame / rates[0], t_last = fit.last_frame / rates[0];
+  for (size_t k = 0; k < session.cameras.size(); ++k) {
+    OverlayInput input;
+    input.clip = session.cameras[k].clip;
+    input.camera = cameras[k];
+    input.camera_index = static_cast<int>(k);
+    input.capture_fps = rates[k];
+    input.parameters = &fit.parameters;
+    input.markers = session.body.markers;
+    for (const TrackPoint& p : analysis.tracking.points) {
+      if (p.camera == static_cast<int>(k)) input.detections.push_back(p);
+    }
+    const double offset = fit.parameters.TimeOffsetS(static_cast<int>(k));
+    input.first_frame = static_cast<int>(std::ceil((t_first - offset) * rates[k] - 1e-6));
+    input.last_frame = static_cast<int>(std::floor((t_last - offset) * rates[k] + 1e-6));
+    std::string safe = session.cameras[k].name;
+    for (char& c : safe) {
+      if (!std::isalnum(static_cast<unsigned char>(c)) && c != '-' && c != '_') c = '_';
+    }
+    const std::string name = session.cameras.size() == 1 ? "overlay.mp4" : "overlay_" + safe + ".mp4";
+    WriteOverlayVideo(input, out_dir / name);
+  }
+}
+
 }  // namespace
 
 int RunFit(const FitCommandOptions& options, const CommonOptions& common) {
@@ -212,9 +255,9 @@ int RunFit(const FitCommandOptions& options, const CommonOptions& common) {
   for (std::string& w : CamerasWithoutSightings(tracks, options.tracks, session)) {
     flight.fit.warnings.push_back(std::move(w));
   }
-  Provenance provenance = MakeProvenance(session, common);
+  Provenance provenance = MakeProvenance(session, common, false);
   provenance.input_files.push_back(options.tracks);
-  WriteFitOutputs(flight, provenance, options.out_dir, common);
+  WriteFitOutputs(flight, provenance, session.body, options.out_dir, common);
   return 0;
 }
 
@@ -239,7 +282,15 @@ int RunAnalyze(const AnalyzeOptions& options, const CommonOptions& common) {
   std::filesystem::create_directories(options.out_dir);
   WriteTracksCsv(analysis.tracking.points, options.out_dir / "tracks.csv");
   if (!common.quiet) std::cout << TrackingSummary(analysis.tracking);
-  WriteFitOutputs(analysis.flight, MakeProvenance(session, common), options.out_dir, common);
+  WriteFitOutputs(analysis.flight, MakeProvenance(session, common, true), session.body,
+                  options.out_dir, common);
+  WriteOverlays(session, analysis, options.out_dir);
+  return 0;
+}
+
+int RunReport(const ReportOptions& options, const CommonOptions& common) {
+  WriteHtmlReport(options.dir);
+  if (!common.quiet) std::cout << "Wrote " << (options.dir / "report.html").string() << "\n";
   return 0;
 }
 

@@ -52,6 +52,12 @@ struct AnalyzeOptions {
 };
 int RunAnalyze(const AnalyzeOptions& options, const CommonOptions& common);
 
+struct ReportOptions {
+  std::filesystem::path dir;          // a results folder: results.json and the CSV files
+};
+// Rewrites DIR/report.html from the folder's files alone.
+int RunReport(const ReportOptions& options, const CommonOptions& common);
+
 // Camera set-up (setup_commands.cpp).
 struct CalibrateOptions {
   std::filesystem::path images;       // a folder of images or a video file

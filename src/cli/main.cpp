@@ -69,8 +69,9 @@ int main(int argc, char** argv) {
       "finds the free-flight frames (release to catch or impact), chooses the rotation and "
       "drag models, and writes results.json (CM in the body frame, launch state, spin, "
       "principal axes and moment ratios when the body tumbles, drag, all with uncertainty; "
-      "the window, break flags and residual checks), frames.csv, residuals.csv and "
-      "tracks.csv, and prints a summary.");
+      "the window, break flags and residual checks), frames.csv, residuals.csv, "
+      "tracks.csv, report.html (the fit report) and overlay.mp4 (the clip with the fit drawn "
+      "on it; overlay_<camera>.mp4 with several cameras), and prints a summary.");
   analyze_cmd->add_option("session", analyze.session, "session YAML file")->required()->check(CLI::ExistingFile);
   analyze_cmd->add_option("-o,--out", analyze.out_dir, "output folder (created when missing)")->required();
   AddFitChoices(analyze_cmd, &analyze.choices);
@@ -90,7 +91,7 @@ int main(int argc, char** argv) {
   CLI::App* fit_cmd = app.add_subcommand(
       "fit",
       "Fit the free-flight model (ballistic CM, torque-free rotation, calibrated cameras) to "
-      "identified marker tracks; writes results.json, frames.csv and residuals.csv.");
+      "identified marker tracks; writes results.json, frames.csv, residuals.csv and report.html.");
   fit_cmd->add_option("session", fit.session, "session YAML file")->required()->check(CLI::ExistingFile);
   fit_cmd->add_option("--tracks", fit.tracks, "tracks.csv with identified markers")
       ->required()->check(CLI::ExistingFile);
@@ -100,6 +101,16 @@ int main(int argc, char** argv) {
                       "Huber loss scale of the first, robust pass, px")
       ->capture_default_str()->check(CLI::PositiveNumber);
   fit_cmd->add_flag("-q,--quiet", common.quiet, "print nothing but errors and warnings");
+
+  cli::ReportOptions report;
+  CLI::App* report_cmd = app.add_subcommand(
+      "report",
+      "Rewrite DIR/report.html (one self-contained page: verdict, results with uncertainty, the "
+      "body drawing, plots, diagnostics, method and provenance) from the folder's results.json, "
+      "frames.csv, residuals.csv and tracks.csv alone; analyze and fit write it too.");
+  report_cmd->add_option("dir", report.dir, "a results folder (written by analyze or fit)")
+      ->required()->check(CLI::ExistingDirectory);
+  report_cmd->add_flag("-q,--quiet", common.quiet, "print nothing but errors");
 
   cli::SimulateOptions sim;
   CLI::App* simulate = app.add_subcommand(
@@ -187,6 +198,7 @@ int main(int argc, char** argv) {
     if (*fit_cmd) return cli::RunFit(fit, common);
     if (*track_cmd) return cli::RunTrack(track, common);
     if (*analyze_cmd) return cli::RunAnalyze(analyze, common);
+    if (*report_cmd) return cli::RunReport(report, common);
   } catch (const tumbletrace::InputError& e) {
     std::cerr << "error: " << e.what() << "\n";
     return static_cast<int>(ExitCode::kBadInput);

@@ -7,6 +7,7 @@
 #include <sstream>
 
 #include "tumbletrace/core/atomic_file.hpp"
+#include "tumbletrace/core/sha256.hpp"
 
 namespace tumbletrace {
 namespace {
@@ -274,6 +275,34 @@ json ResultsJson(const FitResult& fit, const FlightSummary& s, const Provenance&
               {"termination", fit.termination}};
   j["warnings"] = fit.warnings;
   return j;
+}
+
+void AddReportKeys(json* results, const Body& body,
+                   const std::vector<std::filesystem::path>& input_files) {
+  json markers = json::array();
+  for (const Marker& m : body.markers) markers.push_back({{"id", m.id}, {"at_m", Vec(m.at_body_m)}});
+  json references = json::object();
+  for (const auto& [name, at] : body.references_body_m) references[name] = Vec(at);
+  (*results)["body"] = {{"markers", markers}, {"references_m", references}};
+  json details = json::array();
+  for (const std::filesystem::path& f : input_files) {
+    if (std::filesystem::is_directory(f)) {
+      std::uintmax_t bytes = 0;
+      int files = 0;
+      for (const auto& entry : std::filesystem::directory_iterator(f)) {
+        if (!entry.is_regular_file()) continue;
+        bytes += entry.file_size();
+        ++files;
+      }
+      details.push_back({{"path", f.string()}, {"bytes", bytes}, {"sha256", nullptr},
+                         {"note", fmt::format("a folder of {} files: no single digest", files)}});
+    } else {
+      details.push_back({{"path", f.string()},
+                         {"bytes", std::filesystem::file_size(f)},
+                         {"sha256", Sha256HexOfFile(f)}});
+    }
+  }
+  (*results)["inputs"]["file_details"] = details;
 }
 
 void WriteResultsJson(const nlohmann::json& results, const std::filesystem::path& path) {

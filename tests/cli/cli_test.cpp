@@ -240,6 +240,37 @@ TEST_F(CliTest, FitOfSimulatedTracksRecoversTheCmAndWritesItsFiles) {
               truth.at("cm").at("body_m").at(0).get<double>(), 1e-3);
   EXPECT_NE(r.out.find("mm"), std::string::npos) << r.out;
   EXPECT_NE(r.out.find("rev/s"), std::string::npos) << r.out;
+  EXPECT_TRUE(fs::is_regular_file(Path("out/report.html")));
+  EXPECT_FALSE(fs::exists(Path("out/overlay.mp4")));  // fit reads no clip
+}
+
+TEST_F(CliTest, ReportRewritesThePageFromTheResultsFolderAlone) {
+  ASSERT_NO_FATAL_FAILURE(SimulateInto(120));
+  ASSERT_EQ(Run("fit sim/session.yaml --tracks sim/tracks.csv -o out -q").exit_code, 0);
+  const std::string written = ReadText(Path("out/report.html"));
+  ASSERT_NE(written.find("id=\"verdict\""), std::string::npos);
+  // Only the result files in a new folder: the same page.
+  fs::create_directories(Path("copy"));
+  for (const char* name : {"results.json", "frames.csv", "residuals.csv"}) {
+    fs::copy_file(Path("out") / name, Path("copy") / name);
+  }
+  const RunResult r = Run("report copy");
+  ASSERT_EQ(r.exit_code, 0) << r.err;
+  EXPECT_EQ(ReadText(Path("copy/report.html")), written);
+  EXPECT_NE(r.out.find("report.html"), std::string::npos);
+  const json results = json::parse(ReadText(Path("out/results.json")));
+  EXPECT_EQ(results.at("body").at("markers").size(), 6u);
+  EXPECT_EQ(results.at("inputs").at("file_details").size(), 4u);  // session, camera, body, tracks
+  EXPECT_EQ(results["inputs"]["file_details"][3].at("sha256").get<std::string>().size(), 64u);
+}
+
+TEST_F(CliTest, ReportOfAFolderWithoutResultsIsBadInputNamingTheFile) {
+  fs::create_directories(Path("empty"));
+  const RunResult r = Run("report empty");
+  EXPECT_EQ(r.exit_code, 2);
+  EXPECT_NE(r.err.find("results.json"), std::string::npos) << r.err;
+  EXPECT_FALSE(fs::exists(Path("empty/report.html")));
+  EXPECT_EQ(Run("report no_such_folder").exit_code, 2);
 }
 
 // ---- bad input: exit 2, the message names the file and the key ------------------------
@@ -439,7 +470,8 @@ TEST_F(CliTest, HelpOfTheProgramAndEachCommandSaysWhatItWrites) {
       {"simulate --help", {"clip.mp4", "session.yaml", "truth.json", "tracks.csv", "--no-video"}},
       {"fit --help", {"results.json", "frames.csv", "residuals.csv", "--tracks", "--drag",
                       "--whole-clip", "--estimate-gravity", "--first-frame"}},
-      {"analyze --help", {"free-flight", "drag", "results.json", "tracks.csv"}},
+      {"analyze --help", {"free-flight", "drag", "results.json", "tracks.csv", "report.html", "overlay.mp4"}},
+      {"report --help", {"report.html", "results.json", "frames.csv"}},
   };
   for (const Case& c : cases) {
     const RunResult r = Run(c.args);
@@ -487,12 +519,20 @@ TEST_F(CliClipTest, AnalyzeOfAClipWritesEveryResultAndRecoversTheCm) {
   ASSERT_NO_FATAL_FAILURE(SimulateClip(false));
   const RunResult r = Run("analyze sim/session.yaml -o out");
   ASSERT_EQ(r.exit_code, 0) << r.err;
-  for (const char* name : {"results.json", "frames.csv", "residuals.csv", "tracks.csv"}) {
+  for (const char* name :
+       {"results.json", "frames.csv", "residuals.csv", "tracks.csv", "report.html", "overlay.mp4"}) {
     EXPECT_TRUE(fs::is_regular_file(Path("out") / name)) << name;
   }
   const json results = json::parse(ReadText(Path("out/results.json")));
   const json truth = json::parse(ReadText(Path("sim/truth.json")));
   EXPECT_NEAR(results["cm"]["body_m"][0].get<double>(), truth["cm"]["body_m"][0].get<double>(), 1.5e-3);
+  // The overlay has every frame of the clip, in colour.
+  cv::VideoCapture overlay(Path("out/overlay.mp4").string());
+  ASSERT_TRUE(overlay.isOpened());
+  EXPECT_EQ(static_cast<int>(overlay.get(cv::CAP_PROP_FRAME_COUNT)), 120);
+  // The clip is among the input files, with its size.
+  const json& clip = results.at("inputs").at("file_details").back();
+  EXPECT_EQ(clip.at("bytes").get<std::uintmax_t>(), fs::file_size(Path("sim/clip.mp4")));
   EXPECT_NE(r.out.find("identified"), std::string::npos) << r.out;
   // The playback rate written in the file differs from the capture rate: warned.
   EXPECT_NE(r.out.find("capture rate"), std::string::npos) << r.out;

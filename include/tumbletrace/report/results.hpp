@@ -11,6 +11,7 @@
 #include "tumbletrace/diagnose/diagnostics.hpp"
 #include "tumbletrace/fit/free_flight_fit.hpp"
 #include "tumbletrace/fit/summary.hpp"
+#include "tumbletrace/model/body.hpp"
 
 namespace tumbletrace {
 
@@ -27,6 +28,13 @@ struct Provenance {
 nlohmann::json ResultsJson(const FitResult& fit, const FlightSummary& summary,
                            const Provenance& provenance,
                            const Diagnostics& diagnostics = Diagnostics{});
+
+// Adds what the HTML report needs beyond the fit (docs/files.md): `body.markers` (id and
+// centre `at_m` in the body frame), `body.references_m`, and `inputs.file_details` — per
+// input file its `path`, size in `bytes` and `sha256`; a folder of images gets its total
+// size and a `note` instead of a digest. Throws InputError naming a file that cannot be read.
+void AddReportKeys(nlohmann::json* results, const Body& body,
+                   const std::vector<std::filesystem::path>& input_files);
 
 void WriteResultsJson(const nlohmann::json& results, const std::filesystem::path& path);
 // frames.csv: per frame of the window, the fitted CM position and velocity, orientation,

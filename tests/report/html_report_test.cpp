@@ -1,0 +1,203 @@
+// report.html from a results folder: the verdict, the numbers with their units and
+// uncertainty, "not determined" in place of a null, the plots, and bad folders refused.
+#include "tumbletrace/report/html_report.hpp"
+
+#include <gtest/gtest.h>
+
+#include <filesystem>
+#include <fstream>
+#include <memory>
+#include <regex>
+#include <string>
+
+#include "support/report_folder.hpp"
+#include "support/scenarios.hpp"
+#include "support/temp_dir.hpp"
+#include "support/tumble_scenarios.hpp"
+#include "tumbletrace/core/error.hpp"
+#include "tumbletrace/core/sha256.hpp"
+
+namespace tumbletrace {
+namespace {
+
+namespace fs = std::filesystem;
+using nlohmann::json;
+
+size_t Count(const std::string& text, const std::string& what) {
+  size_t n = 0;
+  for (size_t at = text.find(what); at != std::string::npos; at = text.find(what, at + 1)) ++n;
+  return n;
+}
+
+json ReadJson(const fs::path& path) {
+  std::ifstream in(path);
+  return json::parse(in);
+}
+
+void WriteJson(const json& j, const fs::path& path) { std::ofstream(path) << j.dump(2); }
+
+// One planar-spin throw (seed 41) fitted once for the suite: its CM's z is undetermined.
+class HtmlReportTest : public ::testing::Test {
+ protected:
+  static void SetUpTestSuite() {
+    dir_ = std::make_unique<testing::TempDir>("html_report");
+    const Scenario s = testing::PlanarSpinScenario(0.2, 41);
+    testing::WriteResultsFolder(s, testing::SimulateAndFit(s, testing::DefaultFitOptions(s)), dir_->path());
+  }
+  static void TearDownTestSuite() { dir_.reset(); }
+  static const fs::path& dir() { return dir_->path(); }
+  static std::unique_ptr<testing::TempDir> dir_;
+};
+std::unique_ptr<testing::TempDir> HtmlReportTest::dir_;
+
+TEST(FormatWithSigma, KeepsTwoSignificantDigitsOfTheSigma) {
+  EXPECT_EQ(FormatWithSigma(0.123456, 0.00012, 1e3), "123.46 ± 0.12");
+  EXPECT_EQ(FormatWithSigma(1234.56, 25.0), "1235 ± 25");
+  EXPECT_EQ(FormatWithSigma(-2.5, 0.0123), "-2.500 ± 0.012");
+  EXPECT_EQ(FormatWithSigma(1.0, 0.0), "1.000 ± 0.000");
+}
+
+TEST_F(HtmlReportTest, ResultsJsonCarriesTheBodyAndTheInputFilesDigest) {
+  const json r = ReadJson(dir() / "results.json");
+  ASSERT_EQ(r.at("body").at("markers").size(), 6u);
+  EXPECT_EQ(r["body"]["markers"][0].at("at_m").size(), 3u);
+  const json& file = r.at("inputs").at("file_details").at(0);
+  EXPECT_EQ(file.at("bytes").get<std::uintmax_t>(), fs::file_size(dir() / "body.yaml"));
+  EXPECT_EQ(file.at("sha256"), Sha256HexOfFile(dir() / "body.yaml"));
+}
+
+TEST_F(HtmlReportTest, SoundFitPageShowsTheVerdictNumbersAndPlotsWithoutScriptsOrLinks) {
+  const ReportData data = ReadReportData(dir());
+  const Verdict verdict = AssessFit(data);
+  EXPECT_NE(verdict.level, Verdict::Level::kPoor) << verdict.reasons.front();
+  const std::string html = HtmlReport(data);
+  EXPECT_EQ(html.find("verdict poor"), std::string::npos);
+  // The CM's x as results.json has it, in mm with its sigma.
+  const json& r = data.results;
+  const std::string cm_x = FormatWithSigma(r["cm"]["body_m"][0].get<double>(), r["cm"]["sigma_m"][0].get<double>(), 1e3);
+  EXPECT_NE(html.find(cm_x + " mm"), std::string::npos) << cm_x;
+  // The spin axis's CM component is null: shown as not determined, with the reason.
+  ASSERT_TRUE(r["cm"]["body_m"][2].is_null());
+  EXPECT_NE(html.find("CM in the body frame, z</th><td><span class=\"nd\">not determined</span></td><td "
+                      "class=\"note\">the throw spins"),
+            std::string::npos);
+  EXPECT_NE(html.find("rev/s"), std::string::npos);
+  EXPECT_NE(html.find("rpm"), std::string::npos);
+  // Plots: the body, the image plane, the CM path, residuals per frame and marker, spin,
+  // energy, acceleration; the constant spin has no inertia for the momentum check.
+  EXPECT_GE(Count(html, "<svg"), 8u);
+  EXPECT_NE(html.find("Angular-momentum check:</b> <span class=\"nd\">not determined"), std::string::npos);
+  EXPECT_EQ(html.find("<script"), std::string::npos);
+  EXPECT_NE(html.find("xmlns=\"http://www.w3.org/2000/svg\""), std::string::npos);
+  EXPECT_EQ(Count(html, "http"), Count(html, "http://www.w3.org/2000/svg"));  // no links out
+  EXPECT_EQ(html.find(">nan"), std::string::npos);
+  EXPECT_EQ(html.find(" nan "), std::string::npos);
+  EXPECT_NE(html.find("Method"), std::string::npos);
+  EXPECT_NE(html.find(Sha256HexOfFile(dir() / "body.yaml")), std::string::npos);
+}
+
+TEST_F(HtmlReportTest, PoorFitIsSaidFirstWithItsReasons) {
+  testing::TempDir poor("html_report_poor");
+  for (const char* f : {"frames.csv", "residuals.csv"}) fs::copy_file(dir() / f, poor.path() / f);
+  json r = ReadJson(dir() / "results.json");
+  r["fit"]["rms_px"] = 4.2;
+  r["fit"]["converged"] = false;
+  r["diagnostics"]["flags"] = json::array({{{"kind", "release"}, {"first_frame", 10}, {"last_frame", 30},
+                                            {"sentence", "The body is still in the hand until frame 30."}}});
+  WriteJson(r, poor.path() / "results.json");
+  const ReportData data = ReadReportData(poor.path());
+  const Verdict verdict = AssessFit(data);
+  ASSERT_EQ(verdict.level, Verdict::Level::kPoor);
+  ASSERT_GE(verdict.reasons.size(), 3u);
+  const std::string html = HtmlReport(data);
+  const size_t box = html.find("<div class=\"verdict poor\"");
+  ASSERT_NE(box, std::string::npos);
+  EXPECT_LT(box, html.find("<h2>Results"));  // before any number
+  EXPECT_NE(html.find("4.20 px"), std::string::npos);
+  EXPECT_NE(html.find("did not converge"), std::string::npos);
+  EXPECT_NE(html.find("still in the hand"), std::string::npos);
+  EXPECT_NE(html.find("flag: release"), std::string::npos);  // marked on the time axes
+}
+
+TEST_F(HtmlReportTest, RmsFarAboveTheTypicalFramesIsPoorEvenBelowOnePixel) {
+  testing::TempDir odd("html_report_odd");
+  for (const char* f : {"frames.csv", "residuals.csv"}) fs::copy_file(dir() / f, odd.path() / f);
+  json r = ReadJson(dir() / "results.json");
+  r["fit"]["rms_px"] = 0.9;  // the frames' own rms are about 0.2 px
+  r["diagnostics"]["flags"] = json::array();
+  WriteJson(r, odd.path() / "results.json");
+  const Verdict verdict = AssessFit(ReadReportData(odd.path()));
+  EXPECT_EQ(verdict.level, Verdict::Level::kPoor);
+  EXPECT_NE(verdict.reasons.front().find("median frame"), std::string::npos);
+}
+
+TEST_F(HtmlReportTest, FlagsOutsideTheFittedFramesMarkTheWindowAndDoNotMakeTheFitPoor) {
+  testing::TempDir ends("html_report_ends");
+  for (const char* f : {"frames.csv", "residuals.csv"}) fs::copy_file(dir() / f, ends.path() / f);
+  json r = ReadJson(dir() / "results.json");
+  const int first = r["window"]["first_frame"], last = r["window"]["last_frame"];
+  r["diagnostics"]["flags"] = json::array(
+      {{{"kind", "release"}, {"first_frame", nullptr}, {"last_frame", first - 1}, {"sentence", "In the hand before."}},
+       {{"kind", "impact"}, {"first_frame", last + 1}, {"last_frame", nullptr}, {"sentence", "The net after."}}});
+  WriteJson(r, ends.path() / "results.json");
+  const ReportData data = ReadReportData(ends.path());
+  EXPECT_NE(AssessFit(data).level, Verdict::Level::kPoor);
+  const std::string html = HtmlReport(data);
+  EXPECT_NE(html.find("The net after."), std::string::npos);  // listed under the diagnostics
+  EXPECT_NE(html.find("flag: impact"), std::string::npos);    // and on the time axes
+}
+
+TEST(HtmlReportTumble, FreeTopShowsInertiaRatiosAndTheAngularMomentumCheck) {
+  const Scenario s = testing::FlipScenario(0.2, 3);
+  FitOptions options = testing::DefaultFitOptions(s);
+  options.rotation = RotationChoice::kFreeTop;
+  testing::TempDir dir("html_report_tumble");
+  testing::WriteResultsFolder(s, testing::SimulateAndFit(s, options), dir.path());
+  const std::string html = HtmlReport(ReadReportData(dir.path()));
+  EXPECT_NE(html.find("principal moments, I1/I3</th><td>0."), std::string::npos);
+  EXPECT_NE(html.find("id=\"momentum-area\""), std::string::npos);
+  EXPECT_EQ(html.find("the throw spins about an axis fixed in space"), std::string::npos);
+}
+
+TEST(HtmlReportInput, FolderWithoutResultsIsBadInputNamingTheFile) {
+  testing::TempDir empty("html_report_empty");
+  try {
+    ReadReportData(empty.path());
+    FAIL() << "expected InputError";
+  } catch (const InputError& e) {
+    EXPECT_NE(std::string(e.what()).find("results.json"), std::string::npos);
+  }
+}
+
+TEST_F(HtmlReportTest, CsvWithoutAColumnOrWithTextIsBadInputNamingIt) {
+  testing::TempDir bad("html_report_bad");
+  fs::copy_file(dir() / "results.json", bad.path() / "results.json");
+  fs::copy_file(dir() / "residuals.csv", bad.path() / "residuals.csv");
+  std::ofstream(bad.path() / "frames.csv") << "frame,time_s\n1,0.001\n";
+  try {
+    ReadReportData(bad.path());
+    FAIL() << "expected InputError";
+  } catch (const InputError& e) {
+    EXPECT_NE(std::string(e.what()).find("frames.csv: expected a column 'rms_px'"), std::string::npos) << e.what();
+  }
+  std::ofstream(bad.path() / "frames.csv") << "frame,time_s\n1,abc\n";
+  try {
+    ReadReportData(bad.path());
+    FAIL() << "expected InputError";
+  } catch (const InputError& e) {
+    EXPECT_NE(std::string(e.what()).find("frames.csv:2: column 'time_s'"), std::string::npos) << e.what();
+  }
+}
+
+TEST_F(HtmlReportTest, WriteHtmlReportWritesTheFileFromTheFolderAlone) {
+  testing::TempDir copy("html_report_copy");
+  for (const char* f : {"results.json", "frames.csv", "residuals.csv"}) fs::copy_file(dir() / f, copy.path() / f);
+  WriteHtmlReport(copy.path());
+  std::ifstream in(copy.path() / "report.html");
+  const std::string html((std::istreambuf_iterator<char>(in)), std::istreambuf_iterator<char>());
+  EXPECT_EQ(html, HtmlReport(ReadReportData(dir())));
+  EXPECT_FALSE(fs::exists(copy.path() / "report.html.partial"));
+}
+
+}  // namespace
+}  // namespace tumbletrace
