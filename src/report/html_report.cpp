@@ -633,8 +633,11 @@ std::string HeadlineTable(const ReportData& data) {
   for (int i = 0; i < 3; ++i) {
     std::string note;
     if (interval && (*interval)[i].is_array()) {
-      note = fmt::format("95 %: {} to {} mm", Plain(1e3 * (*interval)[i][0].get<double>(), 5),
-                         Plain(1e3 * (*interval)[i][1].get<double>(), 5));
+      // Both bounds to the same decimals: two significant digits of the 1-sigma.
+      const double low = 1e3 * (*interval)[i][0].get<double>(), high = 1e3 * (*interval)[i][1].get<double>();
+      const double spread = std::max(std::abs(high - low) / 4.0, 1e-9);
+      const int decimals = std::clamp(1 - static_cast<int>(std::floor(std::log10(spread))), 0, 9);
+      note = fmt::format("95 %: {:.{}f} to {:.{}f} mm", low, decimals, high, decimals);
     }
     t += Row(fmt::format("CM in the body frame, {}", axes[i]),
              Measured(Element(cm, i), Element(sigma, i), 1e3, "mm", unobservable_reason), note);
