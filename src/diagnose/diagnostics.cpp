@@ -250,11 +250,50 @@ Diagnostics Diagnose(const FitResult& fit, const FreeFlightWindow& window, const
       d.flags.push_back(flag);
     }
   }
+  // Frames where most sightings are outliers: the body itself left the modelled motion
+  // there (a hand, a contact, an impact inside the window), not one marker.
+  std::map<int, std::pair<int, int>> outliers_of_frame;  // frame -> (outliers, sightings)
+  for (const ResidualRecord& r : fit.residuals) {
+    outliers_of_frame[r.frame].second += 1;
+    outliers_of_frame[r.frame].first += r.outlier ? 1 : 0;
+  }
+  const auto body_off = [&](int frame) {
+    const auto& [outliers, sightings] = outliers_of_frame[frame];
+    return 2 * outliers > sightings;
+  };
+  {
+    int run_start = -1, previous = -1;
+    const auto close_run = [&](int last) {
+      if (run_start >= 0 && last - run_start + 1 >= options.marker_run_frames) {
+        BreakFlag flag;
+        flag.kind = "frames";
+        flag.first_frame = run_start;
+        flag.last_frame = last;
+        flag.sentence = fmt::format(
+            "In frames {}-{} most markers lie off the fitted motion: the body was not in free "
+            "flight there (a hand, a contact, an impact). Those sightings are left out as "
+            "outliers; fit a window without them (the window search, or --first-frame and "
+            "--last-frame).",
+            run_start, last);
+        d.flags.push_back(flag);
+      }
+      run_start = -1;
+    };
+    for (const auto& [frame, counts] : outliers_of_frame) {
+      const bool off = body_off(frame);
+      if (!(off && run_start >= 0 && frame == previous + 1)) {
+        close_run(previous);
+        if (off) run_start = frame;
+      }
+      previous = frame;
+    }
+    close_run(previous);
+  }
   // A marker whose sightings are outliers over several frames in a row while the others fit.
   {
     std::map<int, std::vector<int>> outlier_frames;
     for (const ResidualRecord& r : fit.residuals) {
-      if (r.outlier) outlier_frames[r.marker_id].push_back(r.frame);
+      if (r.outlier && !body_off(r.frame)) outlier_frames[r.marker_id].push_back(r.frame);
     }
     for (auto& [id, list] : outlier_frames) {
       std::sort(list.begin(), list.end());

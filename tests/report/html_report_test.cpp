@@ -10,6 +10,7 @@
 #include <regex>
 #include <string>
 
+#include "support/air_scenarios.hpp"
 #include "support/report_folder.hpp"
 #include "support/scenarios.hpp"
 #include "support/temp_dir.hpp"
@@ -117,6 +118,26 @@ TEST_F(HtmlReportTest, PoorFitIsSaidFirstWithItsReasons) {
   EXPECT_NE(html.find("did not converge"), std::string::npos);
   EXPECT_NE(html.find("still in the hand"), std::string::npos);
   EXPECT_NE(html.find("flag: release"), std::string::npos);  // marked on the time axes
+}
+
+// A real poor fit: the throw held by the hand before release and stopped by a net, fitted
+// over the whole clip (no window search): the page says "poor" in its first box, before
+// any number.
+TEST(HtmlReportPoorWindow, WholeClipWithTheHandPhaseIsPoorOnTheFirstScreen) {
+  const Scenario s = testing::HandAndNetScenario(0.2, 51);
+  FitOptions options = testing::DefaultFitOptions(s);
+  options.rotation = RotationChoice::kConstantSpin;
+  options.drag = DragChoice::kNone;
+  testing::TempDir folder("html_report_hand");
+  testing::WriteResultsFolder(s, testing::SimulateAndFit(s, options), folder.path());
+  const ReportData data = ReadReportData(folder.path());
+  const Verdict verdict = AssessFit(data);
+  ASSERT_EQ(verdict.level, Verdict::Level::kPoor);
+  for (const std::string& reason : verdict.reasons) std::printf("poor: %s\n", reason.c_str());
+  const std::string html = HtmlReport(data);
+  const size_t box = html.find("<div class=\"verdict poor\"");
+  ASSERT_NE(box, std::string::npos);
+  EXPECT_LT(box, html.find("<h2>Results"));
 }
 
 TEST_F(HtmlReportTest, RmsFarAboveTheTypicalFramesIsPoorEvenBelowOnePixel) {
