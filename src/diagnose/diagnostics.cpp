@@ -64,6 +64,21 @@ Eigen::Vector3d LocalAcceleration(const std::vector<double>& t, const std::vecto
   return coefficients.row(2).transpose();
 }
 
+// Runs of consecutive frame numbers in an ascending list, as [first, last], of at least
+// `min_length` frames.
+std::vector<std::pair<int, int>> ConsecutiveRuns(const std::vector<int>& frames, int min_length) {
+  std::vector<std::pair<int, int>> runs;
+  size_t start = 0;
+  for (size_t i = 1; i <= frames.size(); ++i) {
+    if (i < frames.size() && frames[i] == frames[i - 1] + 1) continue;
+    if (i > start && frames[i - 1] - frames[start] + 1 >= min_length) {
+      runs.emplace_back(frames[start], frames[i - 1]);
+    }
+    start = i;
+  }
+  return runs;
+}
+
 RunsTest Runs(const std::vector<ResidualRecord>& residuals, double z_limit) {
   // Series: (camera, marker, coordinate), in time order, inliers only.
   std::map<std::tuple<int, int, int>, std::vector<std::pair<int, double>>> series;
@@ -262,32 +277,23 @@ Diagnostics Diagnose(const FitResult& fit, const FreeFlightWindow& window, const
     return 2 * outliers > sightings;
   };
   {
-    int run_start = -1, previous = -1;
-    const auto close_run = [&](int last) {
-      if (run_start >= 0 && last - run_start + 1 >= options.marker_run_frames) {
-        BreakFlag flag;
-        flag.kind = "frames";
-        flag.first_frame = run_start;
-        flag.last_frame = last;
-        flag.sentence = fmt::format(
-            "In frames {}-{} most markers lie off the fitted motion: the body was not in free "
-            "flight there (a hand, a contact, an impact). Those sightings are left out as "
-            "outliers; fit a window without them (the window search, or --first-frame and "
-            "--last-frame).",
-            run_start, last);
-        d.flags.push_back(flag);
-      }
-      run_start = -1;
-    };
+    std::vector<int> off;
     for (const auto& [frame, counts] : outliers_of_frame) {
-      const bool off = body_off(frame);
-      if (!(off && run_start >= 0 && frame == previous + 1)) {
-        close_run(previous);
-        if (off) run_start = frame;
-      }
-      previous = frame;
+      if (body_off(frame)) off.push_back(frame);
     }
-    close_run(previous);
+    for (const auto& [first, last] : ConsecutiveRuns(off, options.marker_run_frames)) {
+      BreakFlag flag;
+      flag.kind = "frames";
+      flag.first_frame = first;
+      flag.last_frame = last;
+      flag.sentence = fmt::format(
+          "In frames {}-{} most markers lie off the fitted motion: the body was not in free "
+          "flight there (a hand, a contact, an impact). Those sightings are left out as "
+          "outliers; fit a window without them (the window search, or --first-frame and "
+          "--last-frame).",
+          first, last);
+      d.flags.push_back(flag);
+    }
   }
   // A marker whose sightings are outliers over several frames in a row while the others fit.
   {
@@ -297,63 +303,47 @@ Diagnostics Diagnose(const FitResult& fit, const FreeFlightWindow& window, const
     }
     for (auto& [id, list] : outlier_frames) {
       std::sort(list.begin(), list.end());
-      size_t start = 0;
-      for (size_t i = 1; i <= list.size(); ++i) {
-        if (i < list.size() && list[i] <= list[i - 1] + 1) continue;
-        const int length = list[i - 1] - list[start] + 1;
-        if (length >= options.marker_run_frames) {
-          BreakFlag flag;
-          flag.kind = "marker";
-          flag.first_frame = list[start];
-          flag.last_frame = list[i - 1];
-          flag.sentence = fmt::format(
-              "Marker {} lies off the fitted motion in frames {}-{} while the other markers fit: "
-              "a misidentified, merged or partly hidden marker there. Those sightings are left "
-              "out as outliers; check the tracks.",
-              id, list[start], list[i - 1]);
-          d.flags.push_back(flag);
-        }
-        start = i;
+      for (const auto& [first, last] : ConsecutiveRuns(list, options.marker_run_frames)) {
+        BreakFlag flag;
+        flag.kind = "marker";
+        flag.first_frame = first;
+        flag.last_frame = last;
+        flag.sentence = fmt::format(
+            "Marker {} lies off the fitted motion in frames {}-{} while the other markers fit: "
+            "a misidentified, merged or partly hidden marker there. Those sightings are left "
+            "out as outliers; check the tracks.",
+            id, first, last);
+        d.flags.push_back(flag);
       }
     }
   }
   // Runs of frames that fit much worse than the rest of the window.
   {
     const double sigma = std::max(fit.sigma_px, 1e-9);
-    int run_start = -1, previous = -1;
-    double worst = 0.0;
-    const auto close_run = [&](int last) {
-      if (run_start >= 0 && last - run_start + 1 >= 3) {
-        BreakFlag flag;
-        flag.kind = "frames";
-        flag.first_frame = run_start;
-        flag.last_frame = last;
-        flag.sentence = fmt::format(
-            "Frames {}-{} fit worse than the rest of the window (rms up to {:.2f} px against "
-            "{:.2f} px): something acted on the body or the view there (a contact, a shadow, "
-            "motion blur).",
-            run_start, last, worst, fit.rms_px);
-        d.flags.push_back(flag);
-      }
-      run_start = -1;
-      worst = 0.0;
-    };
+    std::vector<int> bad;
+    std::map<int, double> rms_of;
     for (const FrameDiagnostics& f : d.frames) {
       // A frame's chi-square per component 1 + 5 sqrt(2 / k) above the noise: about 5 sigma.
       const int k = 2 * f.sightings;
-      const bool bad = f.rms_px * f.rms_px / (sigma * sigma) > 1.0 + 5.0 * std::sqrt(2.0 / k);
-      if (bad && run_start >= 0 && f.frame == previous + 1) {
-        worst = std::max(worst, f.rms_px);
-      } else {
-        close_run(previous);
-        if (bad) {
-          run_start = f.frame;
-          worst = f.rms_px;
-        }
+      if (f.rms_px * f.rms_px / (sigma * sigma) > 1.0 + 5.0 * std::sqrt(2.0 / k)) {
+        bad.push_back(f.frame);
+        rms_of[f.frame] = f.rms_px;
       }
-      previous = f.frame;
     }
-    close_run(previous);
+    for (const auto& [first, last] : ConsecutiveRuns(bad, 3)) {
+      double worst = 0.0;
+      for (int frame = first; frame <= last; ++frame) worst = std::max(worst, rms_of[frame]);
+      BreakFlag flag;
+      flag.kind = "frames";
+      flag.first_frame = first;
+      flag.last_frame = last;
+      flag.sentence = fmt::format(
+          "Frames {}-{} fit worse than the rest of the window (rms up to {:.2f} px against "
+          "{:.2f} px): something acted on the body or the view there (a contact, a shadow, "
+          "motion blur).",
+          first, last, worst, fit.rms_px);
+      d.flags.push_back(flag);
+    }
   }
   if (p.translation_model != TranslationModel::kVacuum) {
     BreakFlag flag;
