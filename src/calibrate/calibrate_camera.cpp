@@ -123,6 +123,7 @@ std::string CalibrationOptions::Validate() const {
   if (coverage_columns < 2 || coverage_rows < 2) return "the coverage grid needs at least 2 x 2 cells";
   if (!(min_coverage_fraction >= 0 && min_coverage_fraction <= 1)) return "min_coverage_fraction must be in [0, 1]";
   if (!(weak_tilt_deg > 0 && weak_tilt_deg < 90)) return "weak_tilt_deg must be in (0, 90) deg";
+  if (!(warn_sigma_principal_px > 0)) return "warn_sigma_principal_px must exceed 0 px";
   return "";
 }
 
@@ -273,6 +274,17 @@ CameraCalibration CalibrateCamera(const std::vector<TargetView>& views,
     out.warnings.push_back(fmt::format("{} views were used; {} or more at varied orientations "
                                        "give a steadier calibration (common practice)",
                                        out.views_used, options.recommended_views));
+  }
+  // The principal point trades off with the tangential terms and is seen through the
+  // boards' perspective: small boards near the edges leave it loose.
+  const double sigma_principal =
+      std::max(out.sigma_fx_fy_cx_cy_px[2], out.sigma_fx_fy_cx_cy_px[3]);
+  if (!(sigma_principal <= options.warn_sigma_principal_px)) {
+    out.warnings.push_back(fmt::format(
+        "the principal point is uncertain: 1-sigma cx {:.2f} px, cy {:.2f} px (above {:g} px); "
+        "add views in which the board fills most of the frame, tilted 30-55 deg in different "
+        "directions",
+        out.sigma_fx_fy_cx_cy_px[2], out.sigma_fx_fy_cx_cy_px[3], options.warn_sigma_principal_px));
   }
 
   // Orientation: Zhang (2000) — views of parallel planes add no constraint on the

@@ -24,40 +24,40 @@ using testing::Checkerboard9x6;
 using testing::ExactView;
 
 std::vector<TargetView> NoisyViews(const CalibrationTarget& target, int count, double min_tilt,
-                                   double max_tilt, double sigma_px, std::uint64_t seed) {
+                                   double max_tilt, double sigma_px, std::uint64_t seed,
+                                   double aim_span = 0.7) {
   const CameraIntrinsics truth = CalibrationTruth();
   std::mt19937_64 rng(seed + 1000);
   std::vector<TargetView> views;
   int i = 0;
-  for (const RigidTransform& pose : BoardPoses(target, truth, count, min_tilt, max_tilt, seed)) {
+  for (const RigidTransform& pose :
+       BoardPoses(target, truth, count, min_tilt, max_tilt, seed, aim_span)) {
     views.push_back(ExactView(target, truth, pose, sigma_px, &rng, "view " + std::to_string(i++)));
   }
   return views;
 }
 
-// The must-show figures: 25 views of a 15 x 10 board, 0.1 px noise per coordinate. The
-// principal point is the least determined term when p1, p2 are estimated with it (they
-// trade off): its reported 1-sigma here is about 0.87 px in x and 0.66 px in y (OpenCV 4.6's
-// sigmas rescaled by sqrt((N - p) / (2N - p)), see calibrate_camera.cpp; over seeds 1-8 the
-// x errors scatter by 0.78 px rms), so the 1 px bound is met by this seed but not by every
-// one (seeds 3, 7 miss it in x by 0.2 px); the 3-sigma check below is the one that holds in
-// general.
-TEST(CalibrateCamera, RecoversKnownIntrinsicsFromTwentyFiveNoisyViews) {
+// The must-show figures: 15 and 25 views of an A3 checkerboard (20 x 14 corners) filling
+// most of the frame at 30-55 deg tilt (every fourth view towards a corner of the image),
+// 0.1 px noise per coordinate. The principal point is the least determined term (it trades
+// off with p1, p2): its reported 1-sigma is about 0.39 / 0.31 px (cx / cy) with 25 views
+// and 0.47 / 0.37 px with 15, so the 1 px bound holds for most seeds, not all (100 seeds
+// each in calibration_coverage_test: cx within it 99 and 92 times). Each case also checks
+// the truth against the reported sigma.
+void ExpectKnownIntrinsics(int view_count, std::uint64_t seed) {
   const CameraIntrinsics truth = CalibrationTruth();
-  CalibrationTarget target = Checkerboard9x6();
-  target.columns = 15;
-  target.rows = 10;
-  target.pitch_m = 0.020;
-  const CameraCalibration c =
-      CalibrateCamera(NoisyViews(target, 25, 30, 55, 0.1, 1), target, CalibrationOptions{});
+  const CalibrationTarget target = testing::Checkerboard20x14();
+  const CameraCalibration c = CalibrateCamera(NoisyViews(target, view_count, 30, 55, 0.1, seed, 0.3),
+                                              target, CalibrationOptions{});
   const CameraIntrinsics& k = c.intrinsics;
   std::cout << fmt::format(
-      "fx error {:.4f} %, fy error {:.4f} %, cx error {:.3f} px, cy error {:.3f} px, k1 error "
-      "{:.3f} %, rms {:.4f} px; 1-sigma fx {:.3f} px, cx {:.3f} px, cy {:.3f} px, k1 {:.5f}\n",
-      100 * (k.fx_px / truth.fx_px - 1), 100 * (k.fy_px / truth.fy_px - 1), k.cx_px - truth.cx_px,
-      k.cy_px - truth.cy_px, 100 * (k.distortion[0] / truth.distortion[0] - 1), c.rms_px,
-      c.sigma_fx_fy_cx_cy_px[0], c.sigma_fx_fy_cx_cy_px[2], c.sigma_fx_fy_cx_cy_px[3],
-      *c.sigma_distortion[0]);
+      "{} views: fx error {:.4f} %, fy error {:.4f} %, cx error {:.3f} px, cy error {:.3f} px, "
+      "k1 error {:.3f} %, rms {:.4f} px; 1-sigma fx {:.3f} px, cx {:.3f} px, cy {:.3f} px, k1 "
+      "{:.5f}\n",
+      view_count, 100 * (k.fx_px / truth.fx_px - 1), 100 * (k.fy_px / truth.fy_px - 1),
+      k.cx_px - truth.cx_px, k.cy_px - truth.cy_px,
+      100 * (k.distortion[0] / truth.distortion[0] - 1), c.rms_px, c.sigma_fx_fy_cx_cy_px[0],
+      c.sigma_fx_fy_cx_cy_px[2], c.sigma_fx_fy_cx_cy_px[3], *c.sigma_distortion[0]);
   EXPECT_NEAR(k.fx_px / truth.fx_px, 1.0, 0.002);
   EXPECT_NEAR(k.fy_px / truth.fy_px, 1.0, 0.002);
   EXPECT_NEAR(k.cx_px, truth.cx_px, 1.0);
@@ -65,14 +65,37 @@ TEST(CalibrateCamera, RecoversKnownIntrinsicsFromTwentyFiveNoisyViews) {
   EXPECT_NEAR(k.distortion[0] / truth.distortion[0], 1.0, 0.05);
   // The rms per coordinate is the noise less the parameters' share: 0.1 sqrt(1 - p/n).
   EXPECT_NEAR(c.rms_px, 0.1, 0.01);
-  // The reported 1-sigma covers the truth (4 sigma: a fixed seed, not a coverage check).
-  EXPECT_LT(std::abs(k.fx_px - truth.fx_px), 4 * c.sigma_fx_fy_cx_cy_px[0]);
-  EXPECT_LT(std::abs(k.cx_px - truth.cx_px), 3 * c.sigma_fx_fy_cx_cy_px[2]);
-  EXPECT_LT(std::abs(k.cy_px - truth.cy_px), 3 * c.sigma_fx_fy_cx_cy_px[3]);
-  EXPECT_LT(std::abs(k.distortion[0] - truth.distortion[0]), 4 * *c.sigma_distortion[0]);
+  // The reported 1-sigma covers the truth (3 sigma: a fixed seed, not a coverage check).
+  for (int i = 0; i < 4; ++i) {
+    const double truth_i[4] = {truth.fx_px, truth.fy_px, truth.cx_px, truth.cy_px};
+    const double value_i[4] = {k.fx_px, k.fy_px, k.cx_px, k.cy_px};
+    EXPECT_LT(std::abs(value_i[i] - truth_i[i]), 3 * c.sigma_fx_fy_cx_cy_px[i]) << "term " << i;
+  }
+  EXPECT_LT(std::abs(k.distortion[0] - truth.distortion[0]), 3 * *c.sigma_distortion[0]);
+  EXPECT_LT(c.sigma_fx_fy_cx_cy_px[2], 0.6);
   EXPECT_FALSE(c.sigma_distortion[4].has_value());  // k3 held at 0
   EXPECT_FALSE(c.weak) << (c.weak_reasons.empty() ? "" : c.weak_reasons.front());
-  EXPECT_EQ(c.views_used, 25);
+  EXPECT_EQ(c.views_used, view_count);
+  for (const std::string& w : c.warnings) ADD_FAILURE() << "unexpected warning: " << w;
+}
+
+TEST(CalibrateCamera, RecoversKnownIntrinsicsFromTwentyFiveNoisyViews) { ExpectKnownIntrinsics(25, 1); }
+
+TEST(CalibrateCamera, RecoversKnownIntrinsicsFromFifteenNoisyViews) { ExpectKnownIntrinsics(15, 2); }
+
+// A small board kept near the edges pins the principal point poorly (it trades off with
+// p1, p2 and is seen only through the small boards' perspective): the reported 1-sigma is
+// larger than 1 px and the calibration says so, with what to do.
+TEST(CalibrateCamera, SmallBoardsNearTheEdgesWarnOfAnUncertainPrincipalPoint) {
+  const CalibrationTarget target = Checkerboard9x6();
+  const CameraCalibration c =
+      CalibrateCamera(NoisyViews(target, 12, 30, 55, 0.1, 7, 0.7), target, CalibrationOptions{});
+  std::cout << fmt::format("12 small views: 1-sigma cx {:.3f} px, cy {:.3f} px\n",
+                           c.sigma_fx_fy_cx_cy_px[2], c.sigma_fx_fy_cx_cy_px[3]);
+  EXPECT_GT(std::max(c.sigma_fx_fy_cx_cy_px[2], c.sigma_fx_fy_cx_cy_px[3]), 1.0);
+  bool warned = false;
+  for (const std::string& w : c.warnings) warned |= w.find("principal point") != std::string::npos;
+  EXPECT_TRUE(warned);
 }
 
 // Zhang (2000): views of parallel planes are degenerate; here every view within 3 degrees of

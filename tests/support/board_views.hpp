@@ -38,6 +38,16 @@ inline CalibrationTarget Checkerboard9x6() {
   return t;
 }
 
+// A checkerboard of 20 x 14 inner corners at 15 mm (21 x 15 squares, 315 x 225 mm: an A3
+// sheet), the board of the calibration figures.
+inline CalibrationTarget Checkerboard20x14() {
+  CalibrationTarget t = Checkerboard9x6();
+  t.columns = 20;
+  t.rows = 14;
+  t.pitch_m = 0.015;
+  return t;
+}
+
 inline CalibrationTarget Charuco(int columns, int rows, double square_m, double marker_m) {
   CalibrationTarget t;
   t.kind = TargetKind::kCharuco;
@@ -73,15 +83,17 @@ inline bool SheetInImage(const CalibrationTarget& target, const CameraIntrinsics
   return true;
 }
 
-// `count` board poses: the sheet's centre aimed at points spread over the image (a
-// jittered grid), tilted by `min_tilt_deg`..`max_tilt_deg` about an axis in the image plane
+// `count` board poses: the sheet's centre aimed at points spread over the middle `aim_span`
+// of the image's width and height (a jittered 5 x 4 grid), tilted by `min_tilt_deg`..`max_tilt_deg` about an axis in the image plane
 // that turns from view to view, turned about its normal by up to 20 degrees, and placed as
 // close as the whole sheet stays inside the image. The board's printed face looks at the
-// camera (board z along the optical axis before tilting).
+// camera (board z along the optical axis before tilting). A wide span (0.7) gives small
+// boards near the edges; a narrow one (0.3) boards that fill most of the frame, which pin
+// the principal point about twice as well (docs/method.md, "Calibration").
 inline std::vector<RigidTransform> BoardPoses(const CalibrationTarget& target,
                                               const CameraIntrinsics& k, int count,
                                               double min_tilt_deg, double max_tilt_deg,
-                                              std::uint64_t seed) {
+                                              std::uint64_t seed, double aim_span = 0.7) {
   std::mt19937_64 rng(seed);
   std::uniform_real_distribution<double> unit(0.0, 1.0);
   const Eigen::Vector4d b = target.SheetBounds();
@@ -96,8 +108,14 @@ inline std::vector<RigidTransform> BoardPoses(const CalibrationTarget& target,
          Eigen::AngleAxisd(roll, Eigen::Vector3d::UnitZ()))
             .toRotationMatrix();
     // Aim at a point of a 5 x 4 grid over the image (jittered), as near as fits.
-    const double u = (0.15 + 0.7 * ((i % 5) + 0.5 * unit(rng)) / 5.0) * k.width_px;
-    const double v = (0.15 + 0.7 * (((i / 5) % 4) + 0.5 * unit(rng)) / 4.0) * k.height_px;
+    const double aim_from = 0.5 - 0.5 * aim_span;
+    double u = (aim_from + aim_span * ((i % 5) + 0.5 * unit(rng)) / 5.0) * k.width_px;
+    double v = (aim_from + aim_span * (((i / 5) % 4) + 0.5 * unit(rng)) / 4.0) * k.height_px;
+    if (i % 4 == 0 && aim_span < 0.7) {  // every fourth view in a corner of the image, in turn
+      const int corner = (i / 4) % 4;
+      u = (corner % 2 == 0 ? 0.22 : 0.78) * k.width_px;
+      v = (corner / 2 == 0 ? 0.22 : 0.78) * k.height_px;
+    }
     const Eigen::Vector3d ray((u - k.cx_px) / k.fx_px, (v - k.cy_px) / k.fy_px, 1.0);
     RigidTransform pose;
     pose.rotation = rotation;

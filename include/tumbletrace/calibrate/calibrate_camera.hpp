@@ -36,6 +36,7 @@ struct CalibrationOptions {
   // configurations), deg.
   double weak_tilt_deg = 15.0;
   double weak_relative_sigma_focal = 0.01;  // 1-sigma of fx or fy above 1 %: weak
+  double warn_sigma_principal_px = 1.0;     // 1-sigma of cx or cy above: a warning
 
   std::string Validate() const;  // empty when valid
 };
