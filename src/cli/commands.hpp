@@ -65,6 +65,7 @@ struct CalibrateOptions {
   std::filesystem::path out_dir;
   std::filesystem::path print_svg;    // --print: write the target as SVG instead
   int every = 1;                      // use every n-th image
+  double min_change_px = -1.0;        // near-repeat distance; < 0: the default (2 % of the diagonal)
   bool estimate_k3 = false;
   bool no_tangential = false;
 };

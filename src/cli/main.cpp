@@ -138,7 +138,8 @@ int main(int argc, char** argv) {
       "Example:  tumbletrace calibrate calib_images/ --target target.yaml -o cam/\n"
       "Print a target first:  tumbletrace calibrate --target target.yaml --print board.svg\n"
       "Film 15-25 views: the board filling a good part of the image, moved into every corner, "
-      "tilted 20-45 degrees in different directions, sharp and evenly lit.");
+      "tilted 20-45 degrees in different directions, sharp and evenly lit. From a clip, "
+      "frames that repeat a pose already kept are skipped (--min-change).");
   calibrate_cmd->add_option("images", calibrate.images,
                             "folder of numbered images (png, tif, jpg) or a video file")
       ->check(CLI::ExistingPath);
@@ -147,8 +148,16 @@ int main(int argc, char** argv) {
   calibrate_cmd->add_option("-o,--out", calibrate.out_dir, "output folder (created when missing)");
   calibrate_cmd->add_option("--print", calibrate.print_svg,
                             "write the target as an SVG drawing at true size (mm) and stop");
-  calibrate_cmd->add_option("--every", calibrate.every, "use every n-th image or frame")
+  calibrate_cmd->add_option("--every", calibrate.every,
+                            "use every n-th image or frame (a long clip: a few hundred frames "
+                            "spread over it are plenty)")
       ->capture_default_str()->check(CLI::PositiveNumber);
+  calibrate_cmd->add_option("--min-change", calibrate.min_change_px,
+                            "skip a view whose features lie within this rms distance (px) of a "
+                            "view already kept: a near-repeat adds no new pose, and frames of one "
+                            "pose share blur and lighting (default: 2 % of the image diagonal; "
+                            "0 keeps every view)")
+      ->check(CLI::NonNegativeNumber);
   calibrate_cmd->add_flag("--estimate-k3", calibrate.estimate_k3,
                           "estimate the sixth-order radial term k3 too (wide-angle lenses); "
                           "held at 0 otherwise");

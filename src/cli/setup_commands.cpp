@@ -48,14 +48,18 @@ int RunCalibrate(const CalibrateOptions& options, const CommonOptions& common) {
   }
   if (options.out_dir.empty()) throw InputError("calibrate: expected -o DIR, the output folder");
   const bool progress = ShowProgress(common);
+  CollectOptions collect;
+  collect.step = options.every;
+  if (options.min_change_px >= 0) collect.min_change_px = options.min_change_px;
   const CollectedViews collected =
-      CollectTargetViews(options.images, target, options.every, [&](int done) {
+      CollectTargetViews(options.images, target, collect, [&](int done) {
         if (progress) std::cerr << fmt::format("\rsearching image {}", done) << std::flush;
       });
   if (progress) std::cerr << "\n";
   if (!common.quiet) {
-    std::cout << fmt::format("The target was found in {} of {} images", collected.views.size(),
-                             collected.images_read);
+    std::cout << fmt::format("The target was found in {} of {} {}",
+                             collected.views.size() + collected.repeats.size(),
+                             collected.images_read, collected.from_clip ? "frames" : "images");
     if (!collected.missed.empty()) {
       std::cout << " (not in: ";
       for (size_t i = 0; i < collected.missed.size() && i < 20; ++i) {
@@ -64,6 +68,12 @@ int RunCalibrate(const CalibrateOptions& options, const CommonOptions& common) {
       std::cout << (collected.missed.size() > 20 ? ", ..." : "") << ")";
     }
     std::cout << ".\n";
+    if (!collected.repeats.empty()) {
+      std::cout << fmt::format("{} of them repeat a pose already kept (features within {:.1f} px "
+                               "rms) and were skipped; {} views remain.\n",
+                               collected.repeats.size(), collected.min_change_px,
+                               collected.views.size());
+    }
   }
   CalibrationOptions calibration_options;
   calibration_options.estimate_k3 = options.estimate_k3;

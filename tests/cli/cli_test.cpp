@@ -16,6 +16,7 @@
 #include <opencv2/imgcodecs.hpp>
 
 #include "support/board_views.hpp"
+#include "tumbletrace/clip/video_writer.hpp"
 
 namespace {
 
@@ -688,6 +689,34 @@ TEST_F(CliTest, CalibrateFromRenderedImagesWritesTheCameraAndItsReport) {
   // Never over its input.
   const RunResult over = Run("locate --camera cam/camera.yaml --points points.yaml -o cam");
   EXPECT_EQ(over.exit_code, 2) << over.err;
+}
+
+// A clip of the board (each rendered view held for two frames, H.264): the second frame of
+// each pose is a near-repeat and skipped, and the calibration uses the 12 distinct views.
+TEST_F(CliTest, CalibrateFromAClipSkipsTheFramesThatRepeatAPose) {
+  RenderCalibrationImages(Path("calib"), 12);
+  {
+    VideoWriter writer(Path("board.mp4"), cv::Size(1024, 768), 30.0);
+    for (int i = 0; i < 12; ++i) {
+      const cv::Mat image =
+          cv::imread(Path("calib/view_" + std::to_string(100 + i) + ".png").string(),
+                     cv::IMREAD_GRAYSCALE);
+      writer.Write(image);
+      writer.Write(image);
+    }
+  }
+  Write("target.yaml", kTargetYaml);
+  const RunResult r = Run("calibrate board.mp4 --target target.yaml -o cam");
+  ASSERT_EQ(r.exit_code, 0) << r.err << r.out;
+  for (const char* word : {"found in 24 of 24 frames", "12 of them repeat a pose", "12 views remain"}) {
+    EXPECT_NE(r.out.find(word), std::string::npos) << word << "\n" << r.out;
+  }
+  const json report = json::parse(ReadText(Path("cam/calibration.json")));
+  EXPECT_EQ(report["views_used"].get<int>(), 12);
+  EXPECT_NEAR(report["fx"].get<double>() / testing::CalibrationTruth().fx_px, 1.0, 0.003);
+  const RunResult all = Run("calibrate board.mp4 --target target.yaml --min-change 0 -o all");
+  ASSERT_EQ(all.exit_code, 0) << all.err;
+  EXPECT_EQ(json::parse(ReadText(Path("all/calibration.json")))["views_used"].get<int>(), 24);
 }
 
 TEST_F(CliTest, CalibrateWithAnUnknownTargetKeyIsBadInputNamingTheKey) {
