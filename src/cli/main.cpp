@@ -1,6 +1,7 @@
 // tumbletrace: the free flight of a thrown rigid body from high-speed video of markers.
 #include <CLI/CLI.hpp>
 #include <fmt/format.h>
+#include <glog/logging.h>
 
 #include <iostream>
 
@@ -49,6 +50,11 @@ void AddFitChoices(CLI::App* command, tumbletrace::cli::FitChoices* choices) {
 int main(int argc, char** argv) {
   using tumbletrace::ExitCode;
   namespace cli = tumbletrace::cli;
+  // Ceres logs its solver's internal terminations at ERROR; the fit reads each solve's summary
+  // and reports what matters in its own words, so those lines would only confuse.
+  FLAGS_minloglevel = google::GLOG_FATAL;
+  FLAGS_logtostderr = true;  // never log files
+  google::InitGoogleLogging(argv[0]);
   CLI::App app(kDescription, "tumbletrace");
   app.require_subcommand(1);
   app.footer(

@@ -97,8 +97,9 @@ TEST(FreeFlightFit, EstimatedGravityMatchesTheSessionValue) {
 
 // Without a camera pose: the camera frame is the world frame and gravity's direction is
 // estimated (its magnitude given). The same tracks fitted with the true pose must give the
-// same CM in the body frame, speed and spin within their reported uncertainty, and the
-// estimated direction must be the true gravity rotated into the camera frame. Both fits ask
+// same CM in the body frame, speed, spin and launch angle within their reported
+// uncertainty, and the estimated direction must be the true gravity rotated into the camera
+// frame. Both fits ask
 // for the constant spin (the automatic choice would fit three models twice).
 struct PoselessComparison {
   double angle_deg = 0.0;        // estimated against true direction
@@ -131,28 +132,36 @@ PoselessComparison ComparePoselessFit(const Scenario& s) {
   out.sigma_angle_deg = free.sigma_gravity_direction_deg.value_or(0.0);
   EXPECT_NEAR(free.gravity_world_mps2.norm(), s.gravity_world_mps2.norm(), 1e-9);
   EXPECT_LT(out.angle_deg, 3 * out.sigma_angle_deg);
-  std::string cm_text;
+  // The posed fit is the pose-less one with gravity's direction known: their difference
+  // scatters by sqrt(sigma_free^2 - sigma_posed^2) (nested efficient estimates, Hausman
+  // 1978; over 200 draws in coverage_test.cpp the observed scatter is 0.99-1.00 of it).
+  // Checked: within 3 of that spread, and within 2 of the pose-less sigma.
+  std::string text;
+  const auto agree = [&](const char* name, double free_value, double held_value,
+                         double free_sigma, double held_sigma) {
+    const double difference = free_value - held_value;
+    const double spread = std::sqrt(std::max(free_sigma * free_sigma - held_sigma * held_sigma,
+                                             1e-6 * free_sigma * free_sigma));
+    EXPECT_LT(std::abs(difference), 3 * spread) << name;
+    EXPECT_LT(std::abs(difference), 2 * free_sigma) << name;
+    text += fmt::format(" {} {:+.2f} ({:+.2f})", name, difference / free_sigma, difference / spread);
+  };
   for (int i = 0; i < 3; ++i) {
     EXPECT_EQ(free.cm_body_m[i].has_value(), held.cm_body_m[i].has_value()) << "axis " << i;
     if (!free.cm_body_m[i]) continue;
-    const double difference = *free.cm_body_m[i] - *held.cm_body_m[i];
-    EXPECT_LT(std::abs(difference), *free.cm_sigma_m[i]) << "axis " << i;
-    cm_text += fmt::format(" {:.3f}", difference / *free.cm_sigma_m[i]);
+    agree(i == 0 ? "c_x" : i == 1 ? "c_y" : "c_z", *free.cm_body_m[i], *held.cm_body_m[i],
+          *free.cm_sigma_m[i], *held.cm_sigma_m[i]);
   }
-  const double speed_sigmas =
-      (free.launch_speed_mps - held.launch_speed_mps) / free.launch_sigma_speed_mps;
-  const double rate_sigmas = (free.rate_rev_per_s - held.rate_rev_per_s) / free.sigma_rate_rev_per_s;
-  const double angle_sigmas =
-      (free.launch_angle_deg - held.launch_angle_deg) / free.launch_sigma_angle_deg;
-  EXPECT_LT(std::abs(speed_sigmas), 1.0);
-  EXPECT_LT(std::abs(rate_sigmas), 1.0);
-  EXPECT_LT(std::abs(angle_sigmas), 1.0);
+  agree("speed", free.launch_speed_mps, held.launch_speed_mps, free.launch_sigma_speed_mps,
+        held.launch_sigma_speed_mps);
+  agree("spin", free.rate_rev_per_s, held.rate_rev_per_s, free.sigma_rate_rev_per_s,
+        held.sigma_rate_rev_per_s);
+  agree("launch angle", free.launch_angle_deg, held.launch_angle_deg,
+        free.launch_sigma_angle_deg, held.launch_sigma_angle_deg);
   std::cout << fmt::format(
-      "pose-less fit: gravity direction off by {:.4f} deg (1-sigma {:.4f} deg); differences "
-      "from the posed fit in the pose-less sigma: CM{}, speed {:.3f}, spin rate {:.3f}, launch "
-      "angle {:.3f} ({:.3f} vs {:.3f} deg)\n",
-      out.angle_deg, out.sigma_angle_deg, cm_text, speed_sigmas, rate_sigmas, angle_sigmas,
-      free.launch_angle_deg, held.launch_angle_deg);
+      "pose-less fit: gravity direction off by {:.4f} deg (1-sigma {:.4f} deg); pose-less - "
+      "posed in pose-less sigma (in the difference's own spread):{}\n",
+      out.angle_deg, out.sigma_angle_deg, text);
   bool said = false;
   for (const std::string& w : fit.warnings) said |= w.find("camera frame") != std::string::npos;
   EXPECT_TRUE(said);
@@ -173,6 +182,14 @@ TEST(FreeFlightFit, WithoutACameraPoseTheFitEstimatesGravitysDirection) {
 TEST(FreeFlightFit, WithoutAPoseFacingTheThrowPlaneTheDirectionIsLessCertain) {
   const PoselessComparison c = ComparePoselessFit(testing::PlanarSpinScenario(0.1, 21));
   EXPECT_GT(c.sigma_angle_deg, 0.2);
+}
+
+// A fit at its minimum can go on proposing round-off steps until Ceres' trust region
+// collapses and it reports the steps invalid (FAILURE); this noise draw did so in the
+// pose-less fit. A stop with the gradient at the round-off floor is the optimum: converged.
+TEST(FreeFlightFit, AStopAtTheRoundOffFloorCountsAsConverged) {
+  const PoselessComparison c = ComparePoselessFit(testing::ObliqueSpinScenario(0.1, 5088));
+  EXPECT_LT(c.angle_deg, 3 * c.sigma_angle_deg);
 }
 
 TEST(FreeFlightFit, OnlyTheFirstCameraMayLackAPose) {
