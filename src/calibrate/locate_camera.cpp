@@ -129,6 +129,13 @@ CameraPose LocateCamera(const std::vector<PointCorrespondence>& points,
   d_centre.rightCols<3>() = -rot.transpose();
   const Eigen::Matrix3d cov_centre = d_centre * out.covariance * d_centre.transpose();
   out.sigma_camera_centre_mm = cov_centre.diagonal().cwiseMax(0).cwiseSqrt() * 1e3;
+  // The world's z in the camera frame, u = R e_z, moves by a x u under a rotation a applied
+  // on the left: its covariance is [u]x C_a [u]x^T, the angle's variance its trace.
+  const Eigen::Vector3d u = rot.col(2);
+  Eigen::Matrix3d u_skew;
+  u_skew << 0, -u.z(), u.y(), u.z(), 0, -u.x(), -u.y(), u.x(), 0;
+  const Eigen::Matrix3d cov_u = u_skew * out.covariance.topLeftCorner<3, 3>() * u_skew.transpose();
+  out.sigma_vertical_deg = std::sqrt(std::max(cov_u.trace(), 0.0)) * kDeg;
   return out;
 }
 

@@ -91,6 +91,7 @@ void WritePoseJson(const CameraPose& pose, const std::string& source,
       "rotation about camera x, y, z (rad, applied on the left), translation x, y, z (m)";
   j["camera_centre_world_m"] = Vec(pose.camera_centre_world_m);
   j["sigma_camera_centre_mm"] = Vec(pose.sigma_camera_centre_mm);
+  j["sigma_vertical_deg"] = pose.sigma_vertical_deg;
   j["rms_px"] = pose.rms_px;
   j["points"] = pose.points;
   Write(j, path);
@@ -158,6 +159,12 @@ std::string PoseText(const CameraPose& pose) {
       pose.sigma_camera_centre_mm.x(), pose.sigma_camera_centre_mm.y(),
       pose.sigma_camera_centre_mm.z(), axis.x(), axis.y(), axis.z(),
       -std::asin(std::clamp(axis.z(), -1.0, 1.0)) * 180.0 / M_PI);
+  out += fmt::format(
+      "  the world's vertical to {:.3f} deg (1-sigma): directions measured in the world (the "
+      "launch angle, gravity's direction) carry it. When that is coarser than you need, give "
+      "gravity as a magnitude in the session (gravity_mps2: 9.81): the fit then measures the "
+      "vertical from the flight itself, in this pose's frame, with its uncertainty.\n",
+      pose.sigma_vertical_deg);
   return out;
 }
 

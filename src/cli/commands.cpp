@@ -21,6 +21,7 @@
 #include "tumbletrace/report/overlay.hpp"
 #include "tumbletrace/report/results.hpp"
 #include "tumbletrace/sim/simulate.hpp"
+#include "tumbletrace/sim/target_views.hpp"
 
 #ifndef TUMBLETRACE_VERSION
 #define TUMBLETRACE_VERSION "unknown"
@@ -35,6 +36,26 @@ bool ShowProgress(const CommonOptions& common) { return !common.quiet && isatty(
 }  // namespace
 
 int RunSimulate(const SimulateOptions& options, const CommonOptions& common) {
+  if (IsTargetViewsScenario(options.scenario)) {
+    const TargetViewsScenario setup = ReadTargetViewsScenario(options.scenario);
+    const bool progress = ShowProgress(common);
+    const TargetViewsOutput written =
+        SimulateTargetViews(setup, options.out_dir, [&](int done, int total) {
+          if (progress) {
+            std::cerr << fmt::format("\rrendering frame {}/{}", done, total)
+                      << (done == total ? "\n" : "") << std::flush;
+          }
+        });
+    if (!common.quiet) {
+      std::cout << fmt::format(
+          "Simulated a camera set-up into {}: target_views.mp4 ({} frames, {} poses of the {} "
+          "target){}, truth.json (the true intrinsics{})\n",
+          options.out_dir.string(), written.frames, setup.views, TargetKindName(setup.target.kind),
+          written.placed ? ", placed.png (a target in the throw region)" : "",
+          written.placed ? " and pose" : "");
+    }
+    return 0;
+  }
   Scenario scenario = ReadScenarioYaml(options.scenario);
   if (options.no_video) scenario.video.write = false;
   const Simulation sim = SimulateFlight(scenario);

@@ -123,7 +123,10 @@ int main(int argc, char** argv) {
       "simulate",
       "Simulate a throw from a scenario: writes clip.mp4 (H.264), session.yaml, camera.yaml, "
       "body.yaml, truth.json and tracks.csv (exact marker pixels plus the scenario's noise); "
-      "with several cameras, <name>.mp4 and <name>_camera.yaml for each.");
+      "with several cameras, <name>.mp4 and <name>_camera.yaml for each. A camera set-up "
+      "scenario (`kind: target-views`) writes target_views.mp4 (a target waved in front of the "
+      "camera, for `calibrate`), placed.png (a target placed in the throw region, for "
+      "`locate`) and truth.json.");
   simulate->add_option("scenario", sim.scenario, "scenario YAML file (see docs/scenario.md)")
       ->required()->check(CLI::ExistingFile);
   simulate->add_option("-o,--out", sim.out_dir, "output folder (created when missing)")->required();

@@ -129,7 +129,11 @@ int RunLocate(const LocateOptions& options, const CommonOptions& common) {
                                   TargetKindName(target.kind), options.target.string(),
                                   options.image.string()));
     }
-    points = TargetCorrespondences(*view, target, WorldFromTarget(down));
+    // The world's origin at the target's first feature, whatever the kind (a ChArUco
+    // board's frame has its origin at the outer corner of the first square).
+    RigidTransform world_from_target = WorldFromTarget(down);
+    world_from_target.translation_m = -(world_from_target.rotation * target.FeaturePoints().front());
+    points = TargetCorrespondences(*view, target, world_from_target);
     source = fmt::format("{} target ({}) in {}; gravity along {} of the target frame",
                          TargetKindName(target.kind), options.target.string(),
                          options.image.string(), options.down);

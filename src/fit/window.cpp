@@ -226,7 +226,9 @@ FreeFlightWindow FindFreeFlightWindow(const std::vector<FrameSightings>& frames,
       fmt::format("{:.0f}", options.refuse_sigma) +
       " standard deviations of its expectation or its mean within " +
       fmt::format("{:.1f}", options.refuse_variance_ratio) +
-      " times the noise variance; each refused end located by a change-point "
+      " times the noise variance or its rms within " +
+      fmt::format("{:.2f}", options.refuse_excess_px) +
+      " px of the noise; each refused end located by a change-point "
       "scan (the model before the break, a rigid deviation after it; 68 % profile-likelihood "
       "interval)";
 
@@ -272,7 +274,9 @@ FreeFlightWindow FindFreeFlightWindow(const std::vector<FrameSightings>& frames,
       const double z = components > 0 ? (chi2 - components) / std::sqrt(2.0 * components) : 0.0;
       WindowEnd& end = at_end ? window.end : window.start;
       const double variance_ratio = components > 0 ? chi2 / components : 1.0;
-      if (z <= options.refuse_sigma || variance_ratio <= options.refuse_variance_ratio) {
+      const double excess_px = trial.sigma_px * (std::sqrt(variance_ratio) - 1.0);
+      if (z <= options.refuse_sigma || variance_ratio <= options.refuse_variance_ratio ||
+          excess_px <= options.refuse_excess_px) {
         lo = new_lo;
         hi = new_hi;
         model = std::move(trial);

@@ -66,6 +66,7 @@ TEST(LocateCamera, RecoversThePoseWithAnHonestUncertainty) {
   }
   std::vector<Eigen::Matrix<double, 6, 1>> errors;
   Eigen::Vector3d sigma_rotation_deg;
+  double sum_vertical2 = 0.0, sum_sigma_vertical2 = 0.0;
   for (int seed = 0; seed < 50; ++seed) {
     std::mt19937_64 rng(seed);
     std::normal_distribution<double> noise(0.0, 0.2);
@@ -80,6 +81,10 @@ TEST(LocateCamera, RecoversThePoseWithAnHonestUncertainty) {
     Eigen::Matrix<double, 6, 1> e;
     e << d.angle() * d.axis(), pose.camera_from_world.translation_m - truth.translation_m;
     errors.push_back(e);
+    const double vertical = std::acos(std::clamp(
+        pose.camera_from_world.rotation.col(2).dot(truth.rotation.col(2)), -1.0, 1.0));
+    sum_vertical2 += std::pow(vertical * kDeg, 2);
+    sum_sigma_vertical2 += std::pow(pose.sigma_vertical_deg, 2);
     if (seed == 0) {
       sigma_rotation_deg = pose.sigma_rotation_deg;
       EXPECT_NEAR(pose.rms_px, 0.2, 0.08);
@@ -98,6 +103,12 @@ TEST(LocateCamera, RecoversThePoseWithAnHonestUncertainty) {
     EXPECT_GT(scatter_deg / sigma_rotation_deg[i], 1 / 1.5) << "axis " << i;
     EXPECT_LT(scatter_deg / sigma_rotation_deg[i], 1.5) << "axis " << i;
   }
+  // The world's vertical as the camera sees it: rms angle against the rms reported 1-sigma.
+  const double vertical_ratio = std::sqrt(sum_vertical2 / sum_sigma_vertical2);
+  std::cout << "vertical: rms error / rms 1-sigma " << vertical_ratio << " (1-sigma "
+            << std::sqrt(sum_sigma_vertical2 / errors.size()) << " deg)\n";
+  EXPECT_GT(vertical_ratio, 1 / 1.5);
+  EXPECT_LT(vertical_ratio, 1.5);
 }
 
 // The target placed in the throw region, rendered, found and used to define the world.
@@ -105,7 +116,7 @@ TEST(LocateCamera, FromARenderedCharucoBoardInTheThrowRegion) {
   const CameraIntrinsics k = testing::CalibrationTruth();
   const CalibrationTarget target = testing::Charuco(10, 7, 0.08, 0.06);
   // The board hangs upright in the throw plane (its y axis down), the world's origin at
-  // its first inner corner.
+  // the target frame's (the outer corner of its first square).
   const Eigen::Vector3d down_in_target(0, 1, 0);
   const RigidTransform world_from_target = WorldFromTarget(down_in_target);
   RigidTransform camera_from_world;

@@ -719,6 +719,54 @@ TEST_F(CliTest, CalibrateFromAClipSkipsTheFramesThatRepeatAPose) {
   EXPECT_EQ(json::parse(ReadText(Path("all/calibration.json")))["views_used"].get<int>(), 24);
 }
 
+// The README's walk from a board to `analyze`, on the demo's files (data-demo/setup/): a clip
+// of an A3 checkerboard waved in front of the camera -> calibrate; one image of a ChArUco
+// board hung in the throw plane -> locate; the demo throw analysed with that camera, gravity
+// as a magnitude (the vertical measured from the flight in the located frame). The CM and
+// the launch state agree with the simulator's truth (data-demo/truth.json) within their
+// reported uncertainty.
+TEST_F(CliTest, FromABoardClipAndOnePlacedImageToTheFit) {
+  const fs::path demo = fs::path(TUMBLETRACE_SOURCE_DIR) / "data-demo";
+  const RunResult calibrated =
+      Run("calibrate " + (demo / "setup/target_views.mp4").string() + " --target " +
+          (demo / "setup/target.yaml").string() + " -o cam");
+  ASSERT_EQ(calibrated.exit_code, 0) << calibrated.err << calibrated.out;
+  EXPECT_NE(calibrated.out.find("views remain"), std::string::npos) << calibrated.out;
+  EXPECT_EQ(calibrated.err.find("warning"), std::string::npos) << calibrated.err;
+  const RunResult located =
+      Run("locate --camera cam/camera.yaml --image " + (demo / "setup/placed.png").string() +
+          " --target " + (demo / "setup/placed_target.yaml").string() + " --down +y -o posed");
+  ASSERT_EQ(located.exit_code, 0) << located.err << located.out;
+  EXPECT_NE(located.out.find("the world's vertical to"), std::string::npos) << located.out;
+  const json pose = json::parse(ReadText(Path("posed/pose.json")));
+  // The demo camera stands 3 m from the world's origin, looking along world +y.
+  EXPECT_LT(std::abs(pose["world_to_camera"]["translation_m"][2].get<double>() - 3.0),
+            3e-3 * pose["sigma_translation_mm"][2].get<double>());
+  EXPECT_GT(pose["sigma_vertical_deg"].get<double>(), 0.0);
+
+  Write("session.yaml", "clip: " + (demo / "clip.mp4").string() +
+                            "\ncapture_fps: 1000\ncamera: posed/camera.yaml\nbody: " +
+                            (demo / "body.yaml").string() +
+                            "\ngravity_mps2: 9.80665\nmarkers: {kind: bright-dots}\n");
+  const RunResult analysed = Run("analyze session.yaml -o out -q");
+  ASSERT_EQ(analysed.exit_code, 0) << analysed.err;
+  const json results = json::parse(ReadText(Path("out/results.json")));
+  const json truth = json::parse(ReadText(demo / "truth.json"));
+  for (int i = 0; i < 2; ++i) {
+    const double error = results["cm"]["body_m"][i].get<double>() -
+                         truth["cm"]["body_m"][i].get<double>();
+    EXPECT_LT(std::abs(error), 3 * results["cm"]["sigma_m"][i].get<double>()) << "axis " << i;
+  }
+  EXPECT_EQ(results["window"]["first_frame"].get<int>(), 0);
+  const double vx = truth["launch"]["velocity_mps"][0].get<double>();
+  const double vz = truth["launch"]["velocity_mps"][2].get<double>();
+  EXPECT_LT(std::abs(results["launch"]["speed_mps"].get<double>() - std::hypot(vx, vz)),
+            3 * results["launch"]["sigma_speed_mps"].get<double>());
+  EXPECT_LT(std::abs(results["launch"]["angle_deg"].get<double>() -
+                     std::atan2(vz, vx) * 180 / M_PI),
+            3 * results["launch"]["sigma_angle_deg"].get<double>());
+}
+
 TEST_F(CliTest, CalibrateWithAnUnknownTargetKeyIsBadInputNamingTheKey) {
   RenderCalibrationImages(Path("calib"), 1);
   Write("target.yaml", std::string(kTargetYaml) + "colour: black\n");

@@ -32,6 +32,9 @@ struct CameraPose {
   Eigen::Vector3d sigma_translation_mm = Eigen::Vector3d::Zero(); // camera frame
   Eigen::Vector3d camera_centre_world_m = Eigen::Vector3d::Zero();
   Eigen::Vector3d sigma_camera_centre_mm = Eigen::Vector3d::Zero();  // world frame
+  // 1-sigma angle of the world's vertical (z) as the camera sees it: what every direction
+  // measured in the world (a launch angle, gravity's direction) inherits from the pose.
+  double sigma_vertical_deg = 0.0;
   double rms_px = 0.0;     // per coordinate
   int points = 0;
 };

@@ -6,7 +6,9 @@
 //   charuco       squares: [columns, rows], square: side, marker: side, dictionary: name
 // with `units: mm|m` for its lengths. The target frame: x along a row of features, y down
 // the columns, z = x cross y (into the board when its printed face looks at the camera),
-// origin at the first feature (OpenCV's object-point conventions).
+// origin at the first feature for a checkerboard or circle grid, at the outer corner of the
+// first square for a ChArUco board (whose first inner corner is then at (pitch, pitch)):
+// OpenCV's object-point conventions.
 #pragma once
 
 #include <Eigen/Core>

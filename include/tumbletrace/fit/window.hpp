@@ -55,6 +55,11 @@ struct WindowSearchOptions {
   double chunk_fraction = 0.25;   // of the current window
   double refuse_sigma = 4.0;      // a chunk's chi-square excess that stops the growth ...
   double refuse_variance_ratio = 2.0;  // ... when its mean also exceeds this (noise units)
+  // ... and its rms exceeds the noise by more than this, px: a misfit below it is at the
+  // level of the camera model's own accuracy (a calibration's reprojection rms is 0.05-0.3 px,
+  // common practice), not a contact. Found on a clip fitted with a calibrated camera
+  // (0.05 px noise, 0.065 px rms over the first frames: a "release" that was not there).
+  double refuse_excess_px = 0.05;
   double capped_chi2 = 25.0;      // per sighting, in noise units
   int scan_inside_frames = 10;    // frames inside the grown window the scan reconsiders
   int scan_outside_frames = 15;   // frames beyond it
