@@ -145,9 +145,11 @@ int main(int argc, char** argv) {
       "cover the image and a WEAK flag when the board's orientations cannot determine the "
       "intrinsics (all head-on, or all parallel).\n"
       "Example:  tumbletrace calibrate calib_images/ --target target.yaml -o cam/\n"
+      "From a clip:  tumbletrace calibrate board.mp4 --target target.yaml --every 5 -o cam/\n"
       "Print a target first:  tumbletrace calibrate --target target.yaml --print board.svg\n"
-      "Film 15-25 views: the board filling a good part of the image, moved into every corner, "
-      "tilted 20-45 degrees in different directions, sharp and evenly lit. From a clip, "
+      "Film 15-25 views: the board filling most of the image in most views and moved towards "
+      "every corner in a few, tilted 30-55 degrees in different directions, sharp and evenly "
+      "lit; a WEAK flag or a warning says when the views leave a term loose. From a clip, "
       "frames that repeat a pose already kept are skipped (--min-change).");
   calibrate_cmd->add_option("images", calibrate.images,
                             "folder of numbered images (png, tif, jpg) or a video file")

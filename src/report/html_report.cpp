@@ -664,6 +664,23 @@ std::string HeadlineTable(const ReportData& data) {
                        Plain(Number(r, "launch.time_s").value_or(0), 4)));
   t += Row("launch angle above the horizontal",
            Measured(Number(r, "launch.angle_deg"), Number(r, "launch.sigma_angle_deg"), 1.0, "°", "no launch state"));
+  // Gravity's direction when the fit measured it (gravity given as a magnitude, or
+  // --estimate-gravity): how far the measured vertical lies from the world's -z.
+  if (const std::optional<Eigen::Vector3d> u = Vector3(r, "gravity.direction_world");
+      u && Number(r, "gravity.sigma_direction_deg").value_or(0) > 0) {
+    // Against the world's -z (a located camera's vertical); a direction far from it is in
+    // a camera's own frame (no pose: x right, y down), compared with the image's down.
+    const double from_z = std::acos(std::clamp(-u->z(), -1.0, 1.0)) * 180 / M_PI;
+    const double from_y = std::acos(std::clamp(u->y(), -1.0, 1.0)) * 180 / M_PI;
+    t += Row("gravity's direction",
+             fmt::format("[{:.5f}, {:.5f}, {:.5f}] ± {} °", u->x(), u->y(), u->z(),
+                         Plain(*Number(r, "gravity.sigma_direction_deg"), 3)),
+             from_z <= 45 ? fmt::format("measured from the flight; {} ° from the world's −z",
+                                        Plain(from_z, 3))
+                          : fmt::format("measured from the flight; {} ° from the image's down "
+                                        "direction (camera frame)",
+                                        Plain(from_y, 3)));
+  }
   {
     const std::optional<double> rate = Number(r, "spin.rate_rev_per_s"), sr = Number(r, "spin.sigma_rate_rev_per_s");
     t += Row("spin rate", Measured(rate, sr, 1.0, "rev/s", "no spin estimate"),

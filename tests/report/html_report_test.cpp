@@ -120,6 +120,26 @@ TEST_F(HtmlReportTest, PoorFitIsSaidFirstWithItsReasons) {
   EXPECT_NE(html.find("flag: release"), std::string::npos);  // marked on the time axes
 }
 
+// Gravity's direction appears among the results only when the fit measured it: a located
+// camera's world (angle from -z), or a camera's own frame (angle from the image's down).
+TEST_F(HtmlReportTest, GravitysDirectionIsShownWhenTheFitMeasuredIt) {
+  EXPECT_EQ(HtmlReport(ReadReportData(dir())).find("gravity's direction"), std::string::npos);
+  testing::TempDir measured("html_report_gravity");
+  for (const char* f : {"frames.csv", "residuals.csv"}) fs::copy_file(dir() / f, measured.path() / f);
+  json r = ReadJson(dir() / "results.json");
+  r["gravity"]["direction_world"] = {0.0, std::sin(0.7 * M_PI / 180), -std::cos(0.7 * M_PI / 180)};
+  r["gravity"]["sigma_direction_deg"] = 0.147;
+  WriteJson(r, measured.path() / "results.json");
+  std::string html = HtmlReport(ReadReportData(measured.path()));
+  EXPECT_NE(html.find("gravity's direction"), std::string::npos);
+  EXPECT_NE(html.find("± 0.147 °"), std::string::npos) << html.substr(html.find("gravity's direction"), 300);
+  EXPECT_NE(html.find("0.700 ° from the world's −z"), std::string::npos) << html.substr(html.find("gravity's direction"), 300);
+  r["gravity"]["direction_world"] = {std::sin(0.2 * M_PI / 180), std::cos(0.2 * M_PI / 180), 0.0};
+  WriteJson(r, measured.path() / "results.json");
+  html = HtmlReport(ReadReportData(measured.path()));
+  EXPECT_NE(html.find("0.200 ° from the image's down direction"), std::string::npos);
+}
+
 // A real poor fit: the throw held by the hand before release and stopped by a net, fitted
 // over the whole clip (no window search): the page says "poor" in its first box, before
 // any number.
