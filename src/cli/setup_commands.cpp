@@ -82,7 +82,14 @@ int RunCalibrate(const CalibrateOptions& options, const CommonOptions& common) {
   std::filesystem::create_directories(options.out_dir);
   Camera camera;
   camera.intrinsics = calibration.intrinsics;
-  WriteCameraYaml(camera, options.out_dir / "camera.yaml");
+  const double* sigma = calibration.sigma_fx_fy_cx_cy_px.data();
+  WriteCameraYaml(camera, options.out_dir / "camera.yaml",
+                  fmt::format("Calibrated by tumbletrace calibrate from {} views of {} (rms {:.3f} px "
+                              "per coordinate).\n1-sigma: fx {:.3f}, fy {:.3f}, cx {:.3f}, cy "
+                              "{:.3f} px; those of the distortion in calibration.json{}.",
+                              calibration.views_used, options.images.filename().string(),
+                              calibration.rms_px, sigma[0], sigma[1], sigma[2], sigma[3],
+                              calibration.weak ? "; WEAK: see calibration.json" : ""));
   WriteCalibrationJson(calibration, target, options.out_dir / "calibration.json");
   if (!common.quiet) {
     std::cout << CalibrationText(calibration, target);
@@ -151,7 +158,16 @@ int RunLocate(const LocateOptions& options, const CommonOptions& common) {
   std::filesystem::create_directories(options.out_dir);
   RefuseOverwrite(options.out_dir / "camera.yaml", options.camera);
   camera.camera_from_world = pose.camera_from_world;
-  WriteCameraYaml(camera, options.out_dir / "camera.yaml");
+  WriteCameraYaml(
+      camera, options.out_dir / "camera.yaml",
+      fmt::format("Intrinsics from {}; world_to_camera by tumbletrace locate from {}.\n1-sigma of "
+                  "the pose: rotation {:.3f}, {:.3f}, {:.3f} deg about the camera's x, y, z; "
+                  "translation {:.2f}, {:.2f}, {:.2f} mm;\nthe world's vertical {:.3f} deg "
+                  "(covariance in pose.json).",
+                  options.camera.string(), source, pose.sigma_rotation_deg.x(),
+                  pose.sigma_rotation_deg.y(), pose.sigma_rotation_deg.z(),
+                  pose.sigma_translation_mm.x(), pose.sigma_translation_mm.y(),
+                  pose.sigma_translation_mm.z(), pose.sigma_vertical_deg));
   WritePoseJson(pose, source, options.out_dir / "pose.json");
   if (!common.quiet) {
     std::cout << PoseText(pose);

@@ -2,6 +2,8 @@
 
 #include <fmt/format.h>
 
+#include <sstream>
+
 #include <Eigen/Dense>
 #include <cmath>
 
@@ -168,7 +170,8 @@ Camera ReadCameraYaml(const std::filesystem::path& path) {
   return camera;
 }
 
-void WriteCameraYaml(const Camera& camera, const std::filesystem::path& path) {
+void WriteCameraYaml(const Camera& camera, const std::filesystem::path& path,
+                     const std::string& comment) {
   const CameraIntrinsics& k = camera.intrinsics;
   // The file holds the full-frame principal point when a window is given (see ReadCameraYaml).
   const Eigen::Vector2d offset_px =
@@ -180,6 +183,8 @@ void WriteCameraYaml(const Camera& camera, const std::filesystem::path& path) {
     if (full_size_px.minCoeff() <= 0) full_size_px += offset_px.cast<int>();
   }
   WriteFileAtomically(path, [&](std::ostream& out) {
+    std::istringstream lines(comment);
+    for (std::string line; std::getline(lines, line);) out << "# " << line << "\n";
     out << fmt::format("image_size: [{}, {}]\n", full_size_px.x(), full_size_px.y());
     out << "fx: " << Num(k.fx_px) << "\n";
     out << "fy: " << Num(k.fy_px) << "\n";

@@ -658,6 +658,9 @@ TEST_F(CliTest, CalibrateFromRenderedImagesWritesTheCameraAndItsReport) {
   const std::string camera = ReadText(Path("cam/camera.yaml"));
   EXPECT_NE(camera.find("image_size: [1024, 768]"), std::string::npos) << camera;
   EXPECT_EQ(camera.find("world_to_camera"), std::string::npos);
+  // The file says where it came from and how certain it is, in comments.
+  EXPECT_EQ(camera.rfind("# Calibrated by tumbletrace calibrate from 12 views", 0), 0u) << camera;
+  EXPECT_NE(camera.find("# 1-sigma: fx "), std::string::npos) << camera;
 
   // The calibrated camera located from surveyed points (their pixels through the truth).
   std::string points = "units: m\npoints:\n";
@@ -681,6 +684,7 @@ TEST_F(CliTest, CalibrateFromRenderedImagesWritesTheCameraAndItsReport) {
   EXPECT_NE(located.out.find("mm"), std::string::npos);
   const std::string posed = ReadText(Path("posed/camera.yaml"));
   EXPECT_NE(posed.find("world_to_camera"), std::string::npos) << posed;
+  EXPECT_NE(posed.find("# the world's vertical "), std::string::npos) << posed;
   EXPECT_NE(posed.find("fx: " + std::to_string(fx).substr(0, 6)), std::string::npos) << posed;
   const json pose_json = json::parse(ReadText(Path("posed/pose.json")));
   EXPECT_NEAR(pose_json["world_to_camera"]["translation_m"][2].get<double>(), 3.0, 0.02);

@@ -90,6 +90,8 @@ Eigen::Vector2d UndistortToNormalised(const CameraIntrinsics& k, const Eigen::Ve
 
 // camera.yaml (../shared/CONTRACT.md). Throws InputError naming file and key.
 Camera ReadCameraYaml(const std::filesystem::path& path);
-void WriteCameraYaml(const Camera& camera, const std::filesystem::path& path);
+// `comment` (may be empty): lines written first, each as a YAML comment ("# ...").
+void WriteCameraYaml(const Camera& camera, const std::filesystem::path& path,
+                     const std::string& comment = "");
 
 }  // namespace tumbletrace
