@@ -314,22 +314,23 @@ std::string BodyDrawing(const ReportData& data) {
   return "<div class=\"grid\">\n" + html + "</div>\n";
 }
 
-std::string ImagePlanePlot(const ReportData& data) {
+// One camera's image (`camera`: its index; a file without the column has one camera).
+// `cameras`: how many the fit used (the caption names the camera when more than one).
+std::string ImagePlanePlot(const ReportData& data, int camera, int cameras) {
   SvgPlot plot("image x, px", "image y, px (down)", 600, 420);
-  plot.SetId("image");
+  plot.SetId(cameras > 1 ? fmt::format("image-{}", camera) : "image");
   plot.SetEqualAspect();
   plot.InvertY();
-  // The first camera's image (camera 0; a file without the column has one camera).
-  auto first_camera = [](const CsvTable& table) {
+  auto this_camera = [camera](const CsvTable& table) {
     std::vector<bool> keep(table.Rows(), true);
     if (table.Has("camera")) {
-      const std::vector<double> camera = table.Values("camera");
-      for (size_t i = 0; i < keep.size(); ++i) keep[i] = camera[i] == 0.0;
+      const std::vector<double> index = table.Values("camera");
+      for (size_t i = 0; i < keep.size(); ++i) keep[i] = index[i] == camera;
     }
     return keep;
   };
   if (data.tracks && data.tracks->Has("x_px")) {
-    const std::vector<bool> keep = first_camera(*data.tracks);
+    const std::vector<bool> keep = this_camera(*data.tracks);
     const std::vector<double> x = data.tracks->Values("x_px"), y = data.tracks->Values("y_px");
     PlotSeries all{"all detections in the clip", {}, {}, "#c8c8c8", SeriesStyle::kDots, 1.2};
     for (size_t i = 0; i < x.size(); ++i) {
@@ -339,7 +340,7 @@ std::string ImagePlanePlot(const ReportData& data) {
     }
     plot.Add(all);
   }
-  const std::vector<bool> keep = first_camera(data.residuals);
+  const std::vector<bool> keep = this_camera(data.residuals);
   const std::vector<double> x = data.residuals.Values("x_px"), y = data.residuals.Values("y_px");
   const std::vector<double> rx = data.residuals.Values("residual_x_px"), ry = data.residuals.Values("residual_y_px");
   const std::vector<double> marker = data.residuals.Values("marker");
@@ -371,9 +372,19 @@ std::string ImagePlanePlot(const ReportData& data) {
     plot.Add(s);
   }
   return Figure(plot.Render(),
-                "Image-plane tracks: each fitted marker sighting (coloured dots, one colour per marker) and "
-                "the fit's projection of the same marker (thin dark lines); detections outside the fitted "
-                "frames in grey. Pixels of the original image, y down; the first camera's with several.");
+                (cameras > 1 ? fmt::format("Camera {} of {}: image", camera + 1, cameras) : std::string("Image")) +
+                    "-plane tracks: each fitted marker sighting (coloured dots, one colour per marker) and "
+                    "the fit's projection of the same marker (thin dark lines); detections outside the "
+                    "fitted frames in grey. Pixels of the original image, y down.");
+}
+
+// One image-plane plot per camera of the fit.
+std::string ImagePlanePlots(const ReportData& data) {
+  const json* cameras = Find(data.results, "cameras");
+  const int count = cameras && cameras->is_array() && !cameras->empty() ? static_cast<int>(cameras->size()) : 1;
+  std::string html;
+  for (int k = 0; k < count; ++k) html += ImagePlanePlot(data, k, count);
+  return html;
 }
 
 std::string CmPathPlot(const ReportData& data) {
@@ -982,7 +993,7 @@ std::string HtmlReport(const ReportData& data) {
   }
   html += "<h2>Results</h2>\n" + HeadlineTable(data);
   html += "<h2>The body and its CM</h2>\n" + BodyDrawing(data);
-  html += "<h2>Fit and data</h2>\n<div class=\"grid\">\n" + ImagePlanePlot(data) + CmPathPlot(data) +
+  html += "<h2>Fit and data</h2>\n<div class=\"grid\">\n" + ImagePlanePlots(data) + CmPathPlot(data) +
           ResidualsPerFramePlot(data, time) + ResidualsPerMarkerPlot(data) + "</div>\n";
   html += "<h2>Rotation and conservation checks</h2>\n<div class=\"grid\">\n" + SpinPlot(data, time) +
           ConservationPlots(data, time) + AccelerationPlot(data, time) + "</div>\n";

@@ -123,7 +123,11 @@ TEST_F(HtmlReportTest, PoorFitIsSaidFirstWithItsReasons) {
 // Gravity's direction appears among the results only when the fit measured it: a located
 // camera's world (angle from -z), or a camera's own frame (angle from the image's down).
 TEST_F(HtmlReportTest, GravitysDirectionIsShownWhenTheFitMeasuredIt) {
-  EXPECT_EQ(HtmlReport(ReadReportData(dir())).find("gravity's direction"), std::string::npos);
+  const std::string given = HtmlReport(ReadReportData(dir()));
+  EXPECT_EQ(given.find("gravity's direction"), std::string::npos);
+  // (One camera: one image-plane plot, no camera named in its caption.)
+  EXPECT_EQ(Count(given, "Image-plane tracks"), 1u);
+  EXPECT_EQ(Count(given, "Camera 1 of"), 0u);
   testing::TempDir measured("html_report_gravity");
   for (const char* f : {"frames.csv", "residuals.csv"}) fs::copy_file(dir() / f, measured.path() / f);
   json r = ReadJson(dir() / "results.json");
@@ -138,6 +142,18 @@ TEST_F(HtmlReportTest, GravitysDirectionIsShownWhenTheFitMeasuredIt) {
   WriteJson(r, measured.path() / "results.json");
   html = HtmlReport(ReadReportData(measured.path()));
   EXPECT_NE(html.find("0.200 ° from the image's down direction"), std::string::npos);
+}
+
+// With two cameras each has its own image-plane plot, its sightings and projections only.
+TEST(HtmlReportTwoCameras, EachCameraHasItsImagePlanePlot) {
+  testing::TempDir dir("html_report_two_cameras");
+  const Scenario s = testing::TwoCameraScenario(0.2, 19);
+  testing::WriteResultsFolder(s, testing::SimulateAndFit(s, testing::DefaultFitOptions(s)), dir.path());
+  const std::string html = HtmlReport(ReadReportData(dir.path()));
+  EXPECT_EQ(Count(html, "Camera 1 of 2: image-plane tracks"), 1u);
+  EXPECT_EQ(Count(html, "Camera 2 of 2: image-plane tracks"), 1u);
+  EXPECT_NE(html.find("id=\"image-0"), std::string::npos);
+  EXPECT_NE(html.find("id=\"image-1"), std::string::npos);
 }
 
 // A real poor fit: the throw held by the hand before release and stopped by a net, fitted

@@ -17,7 +17,9 @@ namespace tumbletrace::testing {
 inline void WriteResultsFolder(const Scenario& s, const Recovery& r, const std::filesystem::path& dir) {
   DiagnoseOptions diagnose;
   diagnose.expected_gravity_mps2 = s.gravity_world_mps2;
-  const Diagnostics diagnostics = Diagnose(r.fit, FreeFlightWindow{}, s.body, {s.camera}, diagnose);
+  std::vector<Camera> cameras;
+  for (const ScenarioCamera& c : s.FilmingCameras()) cameras.push_back(c.camera);
+  const Diagnostics diagnostics = Diagnose(r.fit, FreeFlightWindow{}, s.body, cameras, diagnose);
   WriteBodyYaml(s.body, dir / "body.yaml");
   Provenance provenance;
   provenance.tool_version = "test";
