@@ -116,23 +116,14 @@ TEST(Coverage, PoselessGravityDirection) {
   int within_02 = 0, direction_covered = 0;
   double sum_angle2 = 0, sum_sigma2 = 0;
   for (int run = 0; run < kRuns; ++run) {
-    const Scenario s = testing::ObliqueSpinScenario(0.1, 5000 + run);
-    FitOptions posed_options = testing::DefaultFitOptions(s);
-    posed_options.rotation = RotationChoice::kConstantSpin;
-    const auto posed = testing::SimulateAndFit(s, posed_options);
-    Camera camera = s.camera;
-    const Eigen::Matrix3d camera_from_world = camera.camera_from_world->rotation;
-    camera.camera_from_world.reset();
-    FitOptions o;
-    o.rotation = RotationChoice::kConstantSpin;
-    o.gravity_mode = GravityMode::kDirection;
-    o.gravity_world_mps2 = Eigen::Vector3d(0, s.gravity_world_mps2.norm(), 0);
-    const FitResult fit =
-        FitFreeFlight(GroupByFrame(posed.sim.tracks, {s.capture_fps}), s.body, camera, o);
+    const testing::PosedAndPoseless both =
+        testing::FitWithAndWithoutPose(testing::ObliqueSpinScenario(0.1, 5000 + run));
+    const testing::Recovery& posed = both.posed;
+    const FitResult& fit = both.poseless;
     ASSERT_TRUE(fit.converged) << "run " << run;
-    const FlightSummary free = Summarise(fit, s.body);
+    const FlightSummary& free = both.poseless_summary;
 
-    const Eigen::Vector3d u_true = (camera_from_world * s.gravity_world_mps2).normalized();
+    const Eigen::Vector3d u_true = both.gravity_camera_mps2.normalized();
     const Eigen::Vector3d g = fit.parameters.g_world_mps2;
     const Eigen::Vector3d u = g.normalized();
     const double angle_deg = std::acos(std::clamp(u.dot(u_true), -1.0, 1.0)) * 180 / M_PI;

@@ -107,23 +107,13 @@ struct PoselessComparison {
 };
 
 PoselessComparison ComparePoselessFit(const Scenario& s) {
-  FitOptions posed_options = testing::DefaultFitOptions(s);
-  posed_options.rotation = RotationChoice::kConstantSpin;
-  const auto posed = testing::SimulateAndFit(s, posed_options);
-  Camera camera = s.camera;
-  const Eigen::Matrix3d camera_from_world = camera.camera_from_world->rotation;
-  camera.camera_from_world.reset();
-  FitOptions o;
-  o.rotation = RotationChoice::kConstantSpin;
-  o.gravity_mode = GravityMode::kDirection;
-  o.gravity_world_mps2 = Eigen::Vector3d(0, s.gravity_world_mps2.norm(), 0);  // the start
-  const FitResult fit =
-      FitFreeFlight(GroupByFrame(posed.sim.tracks, {s.capture_fps}), s.body, camera, o);
-  const FlightSummary free = Summarise(fit, s.body);
-  const FlightSummary& held = posed.summary;
+  const testing::PosedAndPoseless both = testing::FitWithAndWithoutPose(s);
+  const FitResult& fit = both.poseless;
+  const FlightSummary& free = both.poseless_summary;
+  const FlightSummary& held = both.posed.summary;
   EXPECT_TRUE(fit.converged);
 
-  const Eigen::Vector3d g_true_camera = camera_from_world * s.gravity_world_mps2;
+  const Eigen::Vector3d g_true_camera = both.gravity_camera_mps2;
   PoselessComparison out;
   out.angle_deg =
       std::acos(std::clamp(free.gravity_world_mps2.normalized().dot(g_true_camera.normalized()),

@@ -51,4 +51,31 @@ inline Recovery SimulateAndFit(const Scenario& s, const FitOptions& options,
   return r;
 }
 
+// A throw fitted twice with the constant spin: with the camera's true pose, and on the same
+// tracks without it (the camera frame as the world, gravity's direction estimated, its
+// magnitude given; started straight down the image).
+struct PosedAndPoseless {
+  Recovery posed;
+  FitResult poseless;
+  FlightSummary poseless_summary;
+  Eigen::Vector3d gravity_camera_mps2;  // the true gravity in the camera frame
+};
+
+inline PosedAndPoseless FitWithAndWithoutPose(const Scenario& s) {
+  PosedAndPoseless out;
+  FitOptions posed_options = DefaultFitOptions(s);
+  posed_options.rotation = RotationChoice::kConstantSpin;
+  out.posed = SimulateAndFit(s, posed_options);
+  Camera camera = s.camera;
+  out.gravity_camera_mps2 = camera.camera_from_world->rotation * s.gravity_world_mps2;
+  camera.camera_from_world.reset();
+  FitOptions o;
+  o.rotation = RotationChoice::kConstantSpin;
+  o.gravity_mode = GravityMode::kDirection;
+  o.gravity_world_mps2 = Eigen::Vector3d(0, s.gravity_world_mps2.norm(), 0);
+  out.poseless = FitFreeFlight(GroupByFrame(out.posed.sim.tracks, {s.capture_fps}), s.body, camera, o);
+  out.poseless_summary = Summarise(out.poseless, s.body);
+  return out;
+}
+
 }  // namespace tumbletrace::testing
