@@ -282,17 +282,12 @@ Diagnostics Diagnose(const FitResult& fit, const FreeFlightWindow& window, const
       if (body_off(frame)) off.push_back(frame);
     }
     for (const auto& [first, last] : ConsecutiveRuns(off, options.marker_run_frames)) {
-      BreakFlag flag;
-      flag.kind = "frames";
-      flag.first_frame = first;
-      flag.last_frame = last;
-      flag.sentence = fmt::format(
+      d.flags.push_back({"frames", first, last, fmt::format(
           "In frames {}-{} most markers lie off the fitted motion: the body was not in free "
           "flight there (a hand, a contact, an impact). Those sightings are left out as "
           "outliers; fit a window without them (the window search, or --first-frame and "
           "--last-frame).",
-          first, last);
-      d.flags.push_back(flag);
+          first, last)});
     }
   }
   // A marker whose sightings are outliers over several frames in a row while the others fit.
@@ -304,16 +299,11 @@ Diagnostics Diagnose(const FitResult& fit, const FreeFlightWindow& window, const
     for (auto& [id, list] : outlier_frames) {
       std::sort(list.begin(), list.end());
       for (const auto& [first, last] : ConsecutiveRuns(list, options.marker_run_frames)) {
-        BreakFlag flag;
-        flag.kind = "marker";
-        flag.first_frame = first;
-        flag.last_frame = last;
-        flag.sentence = fmt::format(
+        d.flags.push_back({"marker", first, last, fmt::format(
             "Marker {} lies off the fitted motion in frames {}-{} while the other markers fit: "
             "a misidentified, merged or partly hidden marker there. Those sightings are left "
             "out as outliers; check the tracks.",
-            id, first, last);
-        d.flags.push_back(flag);
+            id, first, last)});
       }
     }
   }
@@ -333,42 +323,24 @@ Diagnostics Diagnose(const FitResult& fit, const FreeFlightWindow& window, const
     for (const auto& [first, last] : ConsecutiveRuns(bad, 3)) {
       double worst = 0.0;
       for (int frame = first; frame <= last; ++frame) worst = std::max(worst, rms_of[frame]);
-      BreakFlag flag;
-      flag.kind = "frames";
-      flag.first_frame = first;
-      flag.last_frame = last;
-      flag.sentence = fmt::format(
+      d.flags.push_back({"frames", first, last, fmt::format(
           "Frames {}-{} fit worse than the rest of the window (rms up to {:.2f} px against "
           "{:.2f} px): something acted on the body or the view there (a contact, a shadow, "
           "motion blur).",
-          first, last, worst, fit.rms_px);
-      d.flags.push_back(flag);
+          first, last, worst, fit.rms_px)});
     }
   }
   if (p.translation_model != TranslationModel::kVacuum) {
-    BreakFlag flag;
-    flag.kind = "air";
-    flag.first_frame = fit.first_frame;
-    flag.last_frame = fit.last_frame;
-    flag.sentence = fmt::format(
+    d.flags.push_back({"air", fit.first_frame, fit.last_frame, fmt::format(
         "The air bends the path: the {} drag model fits significantly better than vacuum "
         "(k = {:.4g} 1/m). The CM and launch state come from the model with drag.",
-        TranslationModelName(p.translation_model), p.aero[0]);
-    d.flags.push_back(flag);
+        TranslationModelName(p.translation_model), p.aero[0])});
   }
   if (!d.runs.white) {
-    BreakFlag flag;
-    flag.kind = "correlated-residuals";
-    flag.first_frame = fit.first_frame;
-    flag.last_frame = fit.last_frame;
-    flag.sentence = d.runs.sentence;
-    d.flags.push_back(flag);
+    d.flags.push_back({"correlated-residuals", fit.first_frame, fit.last_frame, d.runs.sentence});
   }
   if (d.gravity.flagged) {
-    BreakFlag flag;
-    flag.kind = "gravity";
-    flag.sentence = d.gravity.sentence;
-    d.flags.push_back(flag);
+    d.flags.push_back({"gravity", std::nullopt, std::nullopt, d.gravity.sentence});
   }
   return d;
 }
