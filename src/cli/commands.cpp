@@ -180,10 +180,10 @@ std::string TrackingSummary(const TrackingResult& t) {
   for (const CameraTracking& c : t.cameras) {
     if (t.cameras.size() > 1) text += c.name + ": ";
     text += fmt::format(
-        "Read {} frames ({}x{} px, {}-bit {}); {} detections; {} tracks, {} identified as "
-        "markers (assignment rms {:.3f} px)\n",
+        "Read {} frames ({}x{} px, {}-bit {}); {} detections (background filter radius {} px); "
+        "{} tracks, {} identified as markers (assignment rms {:.3f} px)\n",
         c.frames_read, c.clip.size.width, c.clip.size.height, c.clip.bit_depth, c.clip.kind,
-        c.detections,
+        c.detections, c.background_radius_px,
         c.identification.marker_of_track.size() + c.identification.unidentified_tracks.size(),
         c.identification.marker_of_track.size(), c.identification.anchor_rms_px);
   }
@@ -305,7 +305,7 @@ int RunAnalyze(const AnalyzeOptions& options, const CommonOptions& common) {
   if (!common.quiet) std::cout << TrackingSummary(analysis.tracking);
   WriteFitOutputs(analysis.flight, MakeProvenance(session, common, true), session.body,
                   options.out_dir, common);
-  WriteOverlays(session, analysis, options.out_dir);
+  if (options.overlay) WriteOverlays(session, analysis, options.out_dir);
   return 0;
 }
 

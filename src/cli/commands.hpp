@@ -49,6 +49,7 @@ struct AnalyzeOptions {
   std::filesystem::path session;
   std::filesystem::path out_dir;
   FitChoices choices;
+  bool overlay = true;  // write overlay.mp4 (the clip with the fit drawn on it)
 };
 int RunAnalyze(const AnalyzeOptions& options, const CommonOptions& common);
 

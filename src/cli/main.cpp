@@ -81,6 +81,9 @@ int main(int argc, char** argv) {
   analyze_cmd->add_option("session", analyze.session, "session YAML file")->required()->check(CLI::ExistingFile);
   analyze_cmd->add_option("-o,--out", analyze.out_dir, "output folder (created when missing)")->required();
   AddFitChoices(analyze_cmd, &analyze.choices);
+  bool no_overlay = false;
+  analyze_cmd->add_flag("--no-overlay", no_overlay,
+                        "skip overlay.mp4 (its rendering and encoding take about as long as the fit)");
   analyze_cmd->add_flag("-q,--quiet", common.quiet, "print nothing but errors and warnings");
 
   cli::TrackCommandOptions track;
@@ -217,7 +220,10 @@ int main(int argc, char** argv) {
     if (*locate_cmd) return cli::RunLocate(locate, common);
     if (*fit_cmd) return cli::RunFit(fit, common);
     if (*track_cmd) return cli::RunTrack(track, common);
-    if (*analyze_cmd) return cli::RunAnalyze(analyze, common);
+    if (*analyze_cmd) {
+      analyze.overlay = !no_overlay;
+      return cli::RunAnalyze(analyze, common);
+    }
     if (*report_cmd) return cli::RunReport(report, common);
   } catch (const tumbletrace::InputError& e) {
     std::cerr << "error: " << e.what() << "\n";

@@ -5,8 +5,10 @@
 #include <map>
 
 #include <memory>
+#include <optional>
 
 #include "tumbletrace/core/error.hpp"
+#include "tumbletrace/detect/background_radius.hpp"
 
 namespace tumbletrace {
 namespace {
@@ -29,15 +31,26 @@ CameraTracking TrackCamera(const Session& session, int camera_index, FrameSource
                            const TrackingOptions& options, std::vector<TrackPoint>* points,
                            const std::function<void(int)>& progress) {
   const SessionCamera& camera = session.cameras[camera_index];
-  MarkerDetector detector(DetectorOptionsFor(session, options.detector));
+  DetectorOptions detector_options = DetectorOptionsFor(session, options.detector);
+  std::optional<MarkerDetector> detector;
   Tracker tracker(options.tracker);
   CameraTracking result;
   result.name = camera.name;
   Frame frame;
   while (source->Next(&frame)) {
+    if (!detector) {
+      // The background filter's radius from the markers' size in the first frame, unless
+      // the session gives it.
+      if (!session.markers.background_radius_px) {
+        detector_options.background_radius_px =
+            ChooseBackgroundRadius(frame.image, detector_options).radius_px;
+      }
+      result.background_radius_px = detector_options.background_radius_px;
+      detector.emplace(detector_options);
+    }
     const double time_s = frame.index / camera.capture_fps;
     const std::vector<cv::Rect> regions = tracker.SearchRegions(frame.index, frame.image.size());
-    const std::vector<Detection> detections = detector.Detect(frame.image, regions);
+    const std::vector<Detection> detections = detector->Detect(frame.image, regions);
     result.detections += static_cast<int>(detections.size());
     tracker.Add(frame.index, time_s, detections);
     ++result.frames_read;

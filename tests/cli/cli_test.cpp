@@ -539,6 +539,17 @@ TEST_F(CliClipTest, AnalyzeOfAClipWritesEveryResultAndRecoversTheCm) {
   EXPECT_NE(r.out.find("capture rate"), std::string::npos) << r.out;
 }
 
+TEST_F(CliClipTest, AnalyzeWithoutOverlayWritesTheResultsButNoVideo) {
+  ASSERT_NO_FATAL_FAILURE(SimulateClip(false));
+  const RunResult r = Run("analyze sim/session.yaml -o out --no-overlay");
+  ASSERT_EQ(r.exit_code, 0) << r.err;
+  EXPECT_TRUE(fs::is_regular_file(Path("out/results.json")));
+  EXPECT_TRUE(fs::is_regular_file(Path("out/report.html")));
+  EXPECT_FALSE(fs::exists(Path("out/overlay.mp4")));
+  // The background filter's radius, chosen from the markers' size, is printed.
+  EXPECT_NE(r.out.find("background filter radius"), std::string::npos) << r.out;
+}
+
 TEST_F(CliClipTest, TrackWritesIdentifiedTracks) {
   ASSERT_NO_FATAL_FAILURE(SimulateClip(true));
   const RunResult r = Run("track sim/session.yaml -o out");

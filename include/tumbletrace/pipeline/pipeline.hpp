@@ -32,6 +32,8 @@ struct CameraTracking {
   IdentifyReport identification;
   int frames_read = 0;
   int detections = 0;
+  int background_radius_px = 0;  // the detector's background filter (given, or chosen from
+                                 // the markers' size in the first frame)
 };
 
 struct TrackingResult {
