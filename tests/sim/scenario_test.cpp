@@ -135,6 +135,15 @@ TEST_F(ScenarioFileTest, RendersFlatUnlessToldAndReadsTheRayCastersKeys) {
   EXPECT_TRUE(defaults.render.occlusion && defaults.render.shadows);
 }
 
+TEST(ScenarioFile, TheLitDemoTumbleIsRayCast) {
+  const Scenario s = ReadScenarioYaml(fs::path(TUMBLETRACE_SOURCE_DIR) / "data-demo" / "tumble" /
+                                      "scenario_lit.yaml");
+  EXPECT_EQ(s.render.mode, RenderMode::kRaycast);
+  EXPECT_EQ(s.render.marker_kind, MarkerMaterial::kGlossy);
+  EXPECT_EQ(s.video.body_level, 90.0);
+  EXPECT_NEAR(s.light.towards_light_world.norm(), 1.0, 1e-12);
+}
+
 TEST_F(ScenarioFileTest, BadRenderAndLightKeysAreNamed) {
   EXPECT_EQ(ErrorReading("camera: front.yaml\nrender: {mode: photoreal}\n"),
             "scenario.yaml:3: key 'render.mode': expected flat or raycast, got 'photoreal'");
