@@ -98,21 +98,46 @@ bool InsideDot(const RenderedDot& dot, double x, double y) {
   return s(1, 1) * d.x() * d.x() - 2.0 * s(0, 1) * d.x() * d.y() + s(0, 0) * d.y() * d.y() <= det;
 }
 
-// One instant made ready: the image bounds and bounding radii of its solids.
+// One instant made ready: the image bounds and bounding radii of its solids, the solids that
+// can shadow each one, and the pixel boxes of its markers' images and of its overlay dots.
 struct PreparedScene {
   const RayScene* scene = nullptr;
   std::vector<NormalisedBox> bounds;
   std::vector<double> bounding_radius_m;
+  std::vector<std::vector<int>> blockers;  // per solid: those its shadow rays must test
+  std::vector<PixelBox> marker_boxes;
   std::vector<PixelBox> dot_boxes;
 };
 
-PreparedScene Prepare(const RayScene& scene, const RaycastSettings& settings) {
+// The solids whose bounding spheres meet the half-cylinder swept by solid i's bounding sphere
+// towards the light: the only ones that can block its light.
+std::vector<std::vector<int>> ShadowBlockers(const RayScene& scene, const std::vector<double>& radii) {
+  const Eigen::Vector3d& l = scene.towards_light_camera;
+  const int n = static_cast<int>(scene.solids.size());
+  std::vector<std::vector<int>> blockers(n);
+  for (int i = 0; i < n; ++i) {
+    for (int j = 0; j < n; ++j) {
+      if (j == i) continue;
+      const Eigen::Vector3d d =
+          scene.solids[j].primitive.center_camera_m - scene.solids[i].primitive.center_camera_m;
+      const double reach = radii[i] + radii[j];
+      const double along = d.dot(l);
+      if (along >= -reach && (d - along * l).squaredNorm() <= reach * reach) blockers[i].push_back(j);
+    }
+  }
+  return blockers;
+}
+
+PreparedScene Prepare(const RayScene& scene, const CameraIntrinsics& k,
+                      const RaycastSettings& settings) {
   PreparedScene prepared;
   prepared.scene = &scene;
   for (const SceneSolid& solid : scene.solids) {
     prepared.bounds.push_back(ImageBounds(solid.primitive));
     prepared.bounding_radius_m.push_back(BoundingRadius(solid.primitive));
+    if (solid.marker >= 0) prepared.marker_boxes.push_back(PixelBounds(prepared.bounds.back(), k));
   }
+  prepared.blockers = ShadowBlockers(scene, prepared.bounding_radius_m);
   for (const RenderedDot& dot : scene.overlay_dots) {
     prepared.dot_boxes.push_back(DotPixelBounds(dot, settings.width_px, settings.height_px));
   }
@@ -144,18 +169,17 @@ int NearestAmong(const RayScene& scene, const PreparedScene* prepared,
   return part;
 }
 
-// LightBlocked with the solids' bounding radii (null: computed here): a solid whose bounding
-// sphere the shadow ray misses (closest approach beyond the radius, or the sphere wholly
-// behind the start) is skipped before the exact test.
-bool BlockedWithRadii(const RayScene& scene, const std::vector<double>* radii, int solid,
-                      const Eigen::Vector3d& point) {
+// Whether the ray from `point` towards the light meets one of `others` (indices into the
+// scene's solids; none is the solid the point lies on). A solid whose bounding sphere the
+// ray misses (closest approach beyond the radius, or the sphere wholly behind the start) is
+// skipped before the exact test.
+bool BlockedBy(const RayScene& scene, const std::vector<int>& others, const Eigen::Vector3d& point) {
   const Ray ray{point, scene.towards_light_camera};
-  for (int i = 0; i < static_cast<int>(scene.solids.size()); ++i) {
-    if (i == solid) continue;
+  for (const int i : others) {
     const RayPrimitive& other = scene.solids[i].primitive;
     const Eigen::Vector3d to_centre = other.center_camera_m - point;
     const double along = to_centre.dot(ray.direction_camera);
-    const double r = radii != nullptr ? (*radii)[i] : BoundingRadius(other);
+    const double r = BoundingRadius(other);
     if (along < -r || (to_centre - along * ray.direction_camera).squaredNorm() > r * r) continue;
     RayHit hit;
     if (IntersectRay(other, ray, kShadowRayStartM, true, &hit)) return true;
@@ -163,8 +187,18 @@ bool BlockedWithRadii(const RayScene& scene, const std::vector<double>* radii, i
   return false;
 }
 
-double Shade(const RayScene& scene, const std::vector<double>* radii, int solid, const Ray& ray,
-             const RayHit& hit, const RaycastSettings& settings) {
+std::vector<int> AllBut(const RayScene& scene, int solid) {
+  std::vector<int> others;
+  for (int i = 0; i < static_cast<int>(scene.solids.size()); ++i) {
+    if (i != solid) others.push_back(i);
+  }
+  return others;
+}
+
+// The grey level of a ray meeting `solid` at `hit`; `lit` (may be null) says whether its
+// light was unblocked. `blockers`: the solids that can shadow it.
+double Shade(const RayScene& scene, const std::vector<int>& blockers, int solid, const Ray& ray,
+             const RayHit& hit, const RaycastSettings& settings, bool* lit) {
   const SceneSolid& s = scene.solids[solid];
   ShadingGeometry at;
   at.normal = hit.normal_camera;
@@ -172,8 +206,9 @@ double Shade(const RayScene& scene, const std::vector<double>* radii, int solid,
   at.towards_camera = -ray.direction_camera;
   if (settings.shadows && NeedsShadowRay(s.surface, at.normal, at.towards_light)) {
     const Eigen::Vector3d point = ray.origin_camera_m + hit.t_m * ray.direction_camera;
-    at.lit = !BlockedWithRadii(scene, radii, solid, point);
+    at.lit = !BlockedBy(scene, blockers, point);
   }
+  if (lit != nullptr) *lit = at.lit;
   const double level = s.surface == SurfaceKind::kBody ? settings.body_level : settings.dot_level;
   return level * ShadeFraction(s.surface, settings.lighting, at);
 }
@@ -262,41 +297,120 @@ TileWork GatherTile(const std::vector<PreparedScene>& prepared, const LensRays& 
   return work;
 }
 
-// Casts the tile's samples and adds each pixel's mean difference from the background.
-void CastTile(const TileWork& work, const std::vector<PreparedScene>& prepared,
-              const LensRays& lens, const std::vector<float>& background,
-              const RaycastSettings& settings, cv::Mat* levels) {
+// What the ray through one pixel corner meets at one instant.
+struct CornerSample {
+  int solid = -1;
+  bool lit = true;
+  double level = 0.0;
+};
+
+// The level of one camera ray at one instant, or the background's when it meets nothing.
+double SampleLevel(const PreparedScene& p, const TileWork& work, std::size_t k, const Ray& ray,
+                   double x, double y, const Eigen::Vector2d& n, double background,
+                   const RaycastSettings& settings, CornerSample* what) {
+  const RayScene& scene = *p.scene;
+  for (const int d : work.dots[k]) {
+    if (InsideDot(scene.overlay_dots[d], x, y)) {
+      what->solid = -2;  // a dot: never taken as a plain corner
+      return settings.dot_level;
+    }
+  }
+  RayHit hit;
+  what->solid = NearestAmong(scene, &p, work.solids[k], ray, n.x(), n.y(), settings.occlusion, &hit);
+  if (what->solid < 0) return background;
+  return Shade(scene, p.blockers[what->solid], what->solid, ray, hit, settings, &what->lit);
+}
+
+Ray CameraRay(const Eigen::Vector2d& n) {
+  return Ray{Eigen::Vector3d::Zero(), Eigen::Vector3d(n.x(), n.y(), 1.0).normalized()};
+}
+
+// Whether a pixel of instant k may show a marker or an overlay dot (then always supersampled).
+bool NearSmallThings(const PreparedScene& p, const TileWork& work, std::size_t k, int px, int py) {
+  const PixelBox pixel{px, py, px + 1, py + 1};
+  for (const PixelBox& box : p.marker_boxes) {
+    if (box.Overlaps(pixel)) return true;
+  }
+  for (const int d : work.dots[k]) {
+    if (p.dot_boxes[d].Overlaps(pixel)) return true;
+  }
+  return false;
+}
+
+// Casts the tile's rays of instant k and adds each pixel's mean level minus the background,
+// weighted by `weight`, into `sums` (tile pixels, row-major). Each pixel corner's ray is cast
+// first; a pixel whose four corners meet the same part with the same light, and which is
+// near no marker or dot, takes the mean of its corners' levels (the trapezoid rule over the
+// smooth shading of one part); any other pixel is the mean of its s x s samples.
+void CastInstant(const PreparedScene& p, const TileWork& work, std::size_t k, const LensRays& lens,
+                 const std::vector<float>& background, const RaycastSettings& settings,
+                 double weight, std::vector<double>* sums) {
+  const PixelBox& tile = work.pixels;
+  const int w = tile.x1 - tile.x0, h = tile.y1 - tile.y0;
+  std::vector<CornerSample> corners(static_cast<std::size_t>(w + 1) * (h + 1));
+  for (int j = 0; j <= h; ++j) {
+    for (int i = 0; i <= w; ++i) {
+      const int x = tile.x0 + i;
+      const Eigen::Vector2d& n = lens.Corner(x - lens.x0_px(), tile.y0 + j - lens.y0_px());
+      CornerSample& c = corners[static_cast<std::size_t>(j) * (w + 1) + i];
+      c.level = SampleLevel(p, work, k, CameraRay(n), x - 0.5, tile.y0 + j - 0.5, n,
+                            background[std::min(x, settings.width_px - 1)], settings, &c);
+    }
+  }
   const int s = settings.supersampling;
-  const double weight = 1.0 / (static_cast<double>(s) * s * static_cast<double>(prepared.size()));
-  for (int py = work.pixels.y0; py < work.pixels.y1; ++py) {
-    float* row = levels->ptr<float>(py);
-    for (int px = work.pixels.x0; px < work.pixels.x1; ++px) {
-      double sum = 0.0;
+  const RayScene& scene = *p.scene;
+  for (int j = 0; j < h; ++j) {
+    const int py = tile.y0 + j;
+    for (int i = 0; i < w; ++i) {
+      const int px = tile.x0 + i;
+      const CornerSample* c00 = &corners[static_cast<std::size_t>(j) * (w + 1) + i];
+      const CornerSample* c01 = c00 + (w + 1);
+      const CornerSample* four[4] = {c00, c00 + 1, c01, c01 + 1};
+      bool plain = !NearSmallThings(p, work, k, px, py);
+      for (const CornerSample* c : four) {
+        plain = plain && c->solid == c00->solid && c->lit == c00->lit &&
+                (c->solid == -1 || scene.solids[c->solid].marker < 0);
+      }
+      double& sum = (*sums)[static_cast<std::size_t>(j) * w + i];
+      if (plain) {
+        if (c00->solid >= 0) {
+          sum += weight * (0.25 * (c00->level + four[1]->level + four[2]->level + four[3]->level) -
+                           background[px]);
+        }
+        continue;
+      }
+      double samples = 0.0;
       for (int b = 0; b < s; ++b) {
         const double y = py + (b + 0.5) / s - 0.5;
         for (int a = 0; a < s; ++a) {
           const double x = px + (a + 0.5) / s - 0.5;
           const Eigen::Vector2d n = lens.Normalised(x, y);
-          const Ray ray{Eigen::Vector3d::Zero(), Eigen::Vector3d(n.x(), n.y(), 1.0).normalized()};
-          for (std::size_t k = 0; k < prepared.size(); ++k) {
-            const RayScene& scene = *prepared[k].scene;
-            bool on_dot = false;
-            for (const int d : work.dots[k]) on_dot = on_dot || InsideDot(scene.overlay_dots[d], x, y);
-            if (on_dot) {
-              sum += settings.dot_level - background[px];
-              continue;
-            }
-            if (work.solids[k].empty()) continue;
-            RayHit hit;
-            const int solid = NearestAmong(scene, &prepared[k], work.solids[k], ray, n.x(), n.y(),
-                                           settings.occlusion, &hit);
-            if (solid < 0) continue;
-            sum += Shade(scene, &prepared[k].bounding_radius_m, solid, ray, hit, settings) -
-                   background[px];
-          }
+          CornerSample what;
+          samples += SampleLevel(p, work, k, CameraRay(n), x, y, n, background[px], settings, &what) -
+                     background[px];
         }
       }
-      row[px] += static_cast<float>(weight * sum);
+      sum += weight * samples / (static_cast<double>(s) * s);
+    }
+  }
+}
+
+// Casts the tile at every instant and adds each pixel's mean difference from the background.
+void CastTile(const TileWork& work, const std::vector<PreparedScene>& prepared,
+              const LensRays& lens, const std::vector<float>& background,
+              const RaycastSettings& settings, cv::Mat* levels) {
+  const PixelBox& tile = work.pixels;
+  const int w = tile.x1 - tile.x0;
+  std::vector<double> sums(static_cast<std::size_t>(w) * (tile.y1 - tile.y0), 0.0);
+  const double weight = 1.0 / static_cast<double>(prepared.size());
+  for (std::size_t k = 0; k < prepared.size(); ++k) {
+    if (work.solids[k].empty() && work.dots[k].empty()) continue;
+    CastInstant(prepared[k], work, k, lens, background, settings, weight, &sums);
+  }
+  for (int py = tile.y0; py < tile.y1; ++py) {
+    float* row = levels->ptr<float>(py);
+    for (int px = tile.x0; px < tile.x1; ++px) {
+      row[px] += static_cast<float>(sums[static_cast<std::size_t>(py - tile.y0) * w + px - tile.x0]);
     }
   }
 }
@@ -309,12 +423,12 @@ int NearestSolid(const RayScene& scene, const std::vector<int>& candidates, cons
 }
 
 bool LightBlocked(const RayScene& scene, int solid, const Eigen::Vector3d& point_camera_m) {
-  return BlockedWithRadii(scene, nullptr, solid, point_camera_m);
+  return BlockedBy(scene, AllBut(scene, solid), point_camera_m);
 }
 
 double ShadedLevel(const RayScene& scene, int solid, const Ray& ray, const RayHit& hit,
                    const RaycastSettings& settings) {
-  return Shade(scene, nullptr, solid, ray, hit, settings);
+  return Shade(scene, AllBut(scene, solid), solid, ray, hit, settings, nullptr);
 }
 
 cv::Mat RaycastFrame(const std::vector<RayScene>& exposure, const CameraIntrinsics& intrinsics,
@@ -330,7 +444,7 @@ cv::Mat RaycastFrame(const std::vector<RayScene>& exposure, const CameraIntrinsi
   std::vector<PreparedScene> prepared;
   PixelBox region;
   for (const RayScene& scene : exposure) {
-    prepared.push_back(Prepare(scene, settings));
+    prepared.push_back(Prepare(scene, intrinsics, settings));
     for (const NormalisedBox& b : prepared.back().bounds) region = region.Union(PixelBounds(b, intrinsics));
     for (const PixelBox& b : prepared.back().dot_boxes) region = region.Union(b);
   }
