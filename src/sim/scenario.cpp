@@ -65,6 +65,48 @@ std::vector<ScenarioCamera> ReadScenarioCameras(YamlMap& root,
   return cameras;
 }
 
+// `render: {mode, marker_kind, occlusion, shadows}`.
+ScenarioRender ReadRender(YamlMap& r) {
+  ScenarioRender render;
+  const std::string mode = r.OptionalString("mode", "flat or raycast").value_or("flat");
+  if (mode != "flat" && mode != "raycast") r.Fail("mode", "flat or raycast");
+  render.mode = mode == "raycast" ? RenderMode::kRaycast : RenderMode::kFlat;
+  const std::string kinds = "sphere, flat or retro";
+  const std::string kind = r.OptionalString("marker_kind", kinds).value_or("sphere");
+  if (kind != "sphere" && kind != "flat" && kind != "retro") r.Fail("marker_kind", kinds);
+  render.marker_kind = kind == "flat"    ? MarkerMaterial::kMatte
+                       : kind == "retro" ? MarkerMaterial::kRetro
+                                         : MarkerMaterial::kGlossy;
+  render.occlusion = r.OptionalBoolean("occlusion").value_or(true);
+  render.shadows = r.OptionalBoolean("shadows").value_or(true);
+  r.Finish();
+  return render;
+}
+
+// `light: {towards_light_world, ambient, diffuse, specular, shininess}`.
+Lighting ReadLight(YamlMap& l) {
+  Lighting light;
+  if (auto towards = l.OptionalVector3("towards_light_world",
+                                       "a world direction towards the light [x, y, z]")) {
+    if (!(towards->norm() > 0)) l.Fail("towards_light_world", "a non-zero direction");
+    light.towards_light_world = towards->normalized();
+  }
+  const auto fraction = [&](const char* key, double fallback) {
+    const double value = l.OptionalNumber(key, "a fraction of the level, >= 0").value_or(fallback);
+    if (!(value >= 0 && std::isfinite(value))) l.Fail(key, "a fraction of the level, >= 0");
+    return value;
+  };
+  light.ambient = fraction("ambient", light.ambient);
+  light.diffuse = fraction("diffuse", light.diffuse);
+  light.specular = fraction("specular", light.specular);
+  light.shininess = l.OptionalNumber("shininess", "a highlight exponent > 0").value_or(light.shininess);
+  if (!(light.shininess > 0 && std::isfinite(light.shininess))) {
+    l.Fail("shininess", "a highlight exponent > 0");
+  }
+  l.Finish();
+  return light;
+}
+
 }  // namespace
 
 std::vector<ScenarioCamera> Scenario::FilmingCameras() const {
@@ -167,6 +209,17 @@ Scenario ReadScenarioYaml(const std::filesystem::path& path) {
       v.Fail("", "exposure_samples and supersampling of at least 1");
     }
     v.Finish();
+  }
+  if (root.Has("render")) {
+    YamlMap r = root.Map("render");
+    s.render = ReadRender(r);
+  }
+  if (root.Has("light")) {
+    YamlMap l = root.Map("light");
+    s.light = ReadLight(l);
+  }
+  if (s.render.mode == RenderMode::kRaycast && s.video.supersampling > 16) {
+    root.Fail("video", "supersampling of at most 16 with render mode raycast");
   }
   if (root.Has("aero")) {
     YamlMap a = root.Map("aero");

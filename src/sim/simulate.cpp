@@ -14,6 +14,9 @@
 #include "tumbletrace/core/error.hpp"
 #include "tumbletrace/model/session.hpp"
 #include "tumbletrace/sim/flight_phases.hpp"
+#include "tumbletrace/sim/marker_image.hpp"
+#include "tumbletrace/sim/ray_scene.hpp"
+#include "tumbletrace/sim/raycast.hpp"
 #include "tumbletrace/sim/render.hpp"
 
 namespace tumbletrace {
@@ -122,6 +125,26 @@ std::uint64_t CameraSeed(std::uint64_t frame_seed, int camera_index) {
   return frame_seed ^ (static_cast<std::uint64_t>(camera_index) * 0x9E3779B97F4A7C15ULL);
 }
 
+// Glints: small bright spots at random places, new ones every frame (a fixed seed per frame,
+// so that every instant of the exposure shows the same ones).
+std::vector<RenderedDot> Glints(const Scenario& s, const Camera& camera, int camera_index, int frame) {
+  std::mt19937_64 rng(
+      CameraSeed(s.seed * 7919ULL + static_cast<std::uint64_t>(frame), camera_index));
+  std::uniform_real_distribution<double> x(20.0, camera.intrinsics.width_px - 20.0);
+  std::uniform_real_distribution<double> y(20.0, camera.intrinsics.height_px - 20.0);
+  std::uniform_real_distribution<double> r(1.0, 2.5);
+  std::vector<RenderedDot> glints;
+  for (int g = 0; g < s.glints_per_frame; ++g) {
+    RenderedDot glint;
+    glint.center_px = {x(rng), y(rng)};
+    const double radius = r(rng);
+    glint.shape_px2 = radius * radius * Eigen::Matrix2d::Identity();
+    glint.intensity = 1.0;
+    glints.push_back(glint);
+  }
+  return glints;
+}
+
 // The scene as `camera` (number `camera_index`) sees it with the body in `state`.
 SceneInstant ProjectScene(const Simulation& sim, const Camera& camera, int camera_index,
                           const RigidState& state, int frame) {
@@ -152,22 +175,61 @@ SceneInstant ProjectScene(const Simulation& sim, const Camera& camera, int camer
     if (Occluded(s, m.id, frame)) continue;
     if (ProjectMarker(camera, state, sim.mass, m, &px, &dot)) scene.dots.push_back(dot);
   }
-  // Glints: small bright spots at random places, new ones every frame (a fixed seed per
-  // frame, so that every instant of the exposure shows the same ones).
-  std::mt19937_64 rng(
-      CameraSeed(s.seed * 7919ULL + static_cast<std::uint64_t>(frame), camera_index));
-  std::uniform_real_distribution<double> x(20.0, camera.intrinsics.width_px - 20.0);
-  std::uniform_real_distribution<double> y(20.0, camera.intrinsics.height_px - 20.0);
-  std::uniform_real_distribution<double> r(1.0, 2.5);
-  for (int g = 0; g < s.glints_per_frame; ++g) {
-    RenderedDot glint;
-    glint.center_px = {x(rng), y(rng)};
-    const double radius = r(rng);
-    glint.shape_px2 = radius * radius * Eigen::Matrix2d::Identity();
-    glint.intensity = 1.0;
-    scene.dots.push_back(glint);
-  }
+  for (const RenderedDot& glint : Glints(s, camera, camera_index, frame)) scene.dots.push_back(glint);
   return scene;
+}
+
+// The markers the scenario's occlusions hide in `frame`, in the body's order.
+std::vector<bool> LeftOut(const Scenario& s, int frame) {
+  std::vector<bool> left_out;
+  for (const Marker& m : s.body.markers) left_out.push_back(Occluded(s, m.id, frame));
+  return left_out;
+}
+
+// The solids as `camera` (number `camera_index`) sees them with the body in `state`, with
+// the frame's glints over them.
+RayScene RayInstant(const Simulation& sim, const Camera& camera, int camera_index,
+                    const RigidState& state, int frame) {
+  const Scenario& s = sim.scenario;
+  RayScene scene = BodyRayScene(s.body, sim.mass.cm_body_m, state, *camera.camera_from_world,
+                                s.render.marker_kind, s.light.towards_light_world, LeftOut(s, frame));
+  scene.overlay_dots = Glints(s, camera, camera_index, frame);
+  return scene;
+}
+
+// The fractions of a marker's image in the flat clip, which hides and shadows nothing: all of
+// a tracked marker's image is in the frame (ProjectMarker keeps a margin); a marker hidden by
+// an occlusion, behind the camera or turned away is not drawn; one near the border is
+// sampled alone for the part in the frame.
+MarkerImageFractions FlatFractions(const Camera& camera, const RigidState& state,
+                                   const MassProperties& mass, const Marker& marker,
+                                   const MarkerTruth& truth, bool occluded) {
+  if (occluded || !truth.in_front) return {};
+  if (truth.visible) return {1.0, 0.0};
+  const RigidTransform& cfw = *camera.camera_from_world;
+  const Eigen::Vector3d x_cam = cfw.Apply(MarkerWorld(state, mass, marker.at_body_m));
+  if (marker.normal_body) {
+    const Eigen::Vector3d normal_cam = cfw.rotation * (state.world_from_body * *marker.normal_body);
+    if (normal_cam.dot(-x_cam.normalized()) < 0.15) return {};
+  }
+  RayScene alone;
+  alone.towards_light_camera = Eigen::Vector3d::UnitZ();
+  SceneSolid solid;
+  const Eigen::Matrix3d camera_from_body = cfw.rotation * state.world_from_body.toRotationMatrix();
+  solid.primitive = MarkerSolid(marker, camera_from_body, x_cam - camera_from_body * marker.at_body_m);
+  solid.surface = SurfaceKind::kMatteMarker;
+  solid.marker = 0;
+  alone.solids.push_back(solid);
+  return SampleMarkerImage(alone, 0, camera.intrinsics, {false, false, 24});
+}
+
+// The fractions of marker `index`'s image in a ray-cast clip at one instant.
+MarkerImageFractions SightingFractions(const Scenario& s, const RayScene& scene, int index,
+                                       const Camera& camera) {
+  const int solid = MarkerSolidIndex(scene, index);
+  if (solid < 0) return {};
+  return SampleMarkerImage(scene, solid, camera.intrinsics,
+                           {s.render.occlusion, s.render.shadows, 24});
 }
 
 nlohmann::json Vec(const Eigen::Vector3d& v) { return {v.x(), v.y(), v.z()}; }
@@ -296,13 +358,26 @@ Simulation SimulateFlight(const Scenario& scenario) {
       const double offset_s = cameras[k].time_offset_s;
       const RigidState seen =
           offset_s == 0.0 ? state : phases.Advance(state, f.time_s, f.time_s + offset_s);
-      for (const Marker& m : scenario.body.markers) {
+      const Camera& camera = cameras[k].camera;
+      const bool ray_cast = scenario.render.mode == RenderMode::kRaycast;
+      const RayScene scene =
+          ray_cast ? RayInstant(sim, camera, k, seen, i) : RayScene{};
+      for (int index = 0; index < static_cast<int>(scenario.body.markers.size()); ++index) {
+        const Marker& m = scenario.body.markers[index];
         MarkerTruth t;
         t.id = m.id;
         t.camera = k;
         RenderedDot dot;
-        t.visible = ProjectMarker(cameras[k].camera, seen, sim.mass, m, &t.pixel, &dot) &&
-                    !Occluded(scenario, m.id, i);
+        const bool occluded = Occluded(scenario, m.id, i);
+        t.visible = ProjectMarker(camera, seen, sim.mass, m, &t.pixel, &dot) && !occluded;
+        t.in_front = camera.camera_from_world->Apply(MarkerWorld(seen, sim.mass, m.at_body_m)).z() > 0;
+        const MarkerImageFractions fractions =
+            ray_cast ? SightingFractions(scenario, scene, index, camera)
+                     : FlatFractions(camera, seen, sim.mass, m, t, occluded);
+        t.visible_fraction = fractions.visible;
+        t.shadowed_fraction = fractions.shadowed;
+        // A marker the ray-cast clip hides wholly is not tracked.
+        if (ray_cast && !(fractions.visible > 0.0)) t.visible = false;
         f.markers.push_back(t);
         if (!t.visible) continue;
         TrackPoint p;
@@ -329,6 +404,45 @@ RigidState StateAt(const Simulation& sim, double t_s) {
   return FlightPhases(sim.scenario, sim.mass).Advance(sim.frames[k].state, sim.frames[k].time_s, t_s);
 }
 
+namespace {
+
+// The body's states at the instants sampled inside frame `frame`'s exposure, which is centred
+// on the frame's time on the camera's clock (offset `time_offset_s` from the world's).
+std::vector<RigidState> ExposureStates(const Simulation& sim, int frame, double time_offset_s) {
+  const Scenario& s = sim.scenario;
+  const FlightPhases phases(s, sim.mass);
+  const int samples = s.exposure_s > 0 ? s.video.exposure_samples : 1;
+  const FrameTruth& f = sim.frames.at(frame);
+  std::vector<RigidState> states;
+  for (int j = 0; j < samples; ++j) {
+    const double offset_s =
+        time_offset_s + (samples > 1 ? s.exposure_s * ((j + 0.5) / samples - 0.5) : 0.0);
+    states.push_back(phases.Advance(f.state, f.time_s, f.time_s + offset_s));
+  }
+  return states;
+}
+
+// The ray caster's settings: the flat renderer's levels, noise and seed, the scenario's light
+// and switches.
+RaycastSettings RaycastSettingsOf(const Scenario& s, const RenderSettings& flat) {
+  RaycastSettings settings;
+  settings.width_px = flat.width_px;
+  settings.height_px = flat.height_px;
+  settings.background_level = flat.background_level;
+  settings.body_level = flat.body_level;
+  settings.dot_level = flat.dot_level;
+  settings.supersampling = flat.supersampling;
+  settings.noise_sigma_levels = flat.noise_sigma_levels;
+  settings.background_gradient = flat.background_gradient;
+  settings.noise_seed = flat.noise_seed;
+  settings.lighting = s.light;
+  settings.occlusion = s.render.occlusion;
+  settings.shadows = s.render.shadows;
+  return settings;
+}
+
+}  // namespace
+
 cv::Mat RenderSimulatedFrame(const Simulation& sim, int frame, int camera_index) {
   const Scenario& s = sim.scenario;
   const ScenarioCamera camera = s.FilmingCameras().at(camera_index);
@@ -342,15 +456,16 @@ cv::Mat RenderSimulatedFrame(const Simulation& sim, int frame, int camera_index)
   render.noise_sigma_levels = s.image_sigma_levels;
   render.noise_seed =
       CameraSeed(s.seed * 1000003ULL + static_cast<std::uint64_t>(frame), camera_index);
-  const FlightPhases phases(s, sim.mass);
-  const int samples = s.exposure_s > 0 ? s.video.exposure_samples : 1;
-  const FrameTruth& f = sim.frames.at(frame);
+  const std::vector<RigidState> states = ExposureStates(sim, frame, camera.time_offset_s);
+  if (s.render.mode == RenderMode::kRaycast) {
+    std::vector<RayScene> exposure;
+    for (const RigidState& state : states) {
+      exposure.push_back(RayInstant(sim, camera.camera, camera_index, state, frame));
+    }
+    return RaycastFrame(exposure, camera.camera.intrinsics, RaycastSettingsOf(s, render));
+  }
   std::vector<SceneInstant> exposure;
-  for (int j = 0; j < samples; ++j) {
-    // The exposure is centred on the frame's time on the camera's clock.
-    const double offset_s = camera.time_offset_s +
-                            (samples > 1 ? s.exposure_s * ((j + 0.5) / samples - 0.5) : 0.0);
-    const RigidState state = phases.Advance(f.state, f.time_s, f.time_s + offset_s);
+  for (const RigidState& state : states) {
     exposure.push_back(ProjectScene(sim, camera.camera, camera_index, state, frame));
   }
   return RenderFrame(exposure, render);
@@ -388,6 +503,21 @@ void WriteClip(const Simulation& sim, int camera_index, const std::filesystem::p
   });
 }
 
+// truth_sightings.csv: per camera (its name), frame and marker in front of the camera, the
+// exact pixel (as in tracks.csv) and the fractions of its image.
+void WriteSightingsCsv(const Simulation& sim, std::ostream& out) {
+  const std::vector<ScenarioCamera> cameras = sim.scenario.FilmingCameras();
+  out << "camera,frame,time_s,marker,x_px,y_px,visible_fraction,shadowed_fraction\n";
+  for (const FrameTruth& f : sim.frames) {
+    for (const MarkerTruth& m : f.markers) {
+      if (!m.in_front) continue;
+      out << fmt::format("{},{},{:.9g},{},{:.6f},{:.6f},{:.4f},{:.4f}\n", cameras.at(m.camera).name,
+                         f.frame, f.time_s, m.id, m.pixel.x(), m.pixel.y(), m.visible_fraction,
+                         m.shadowed_fraction);
+    }
+  }
+}
+
 }  // namespace
 
 void WriteSimulation(const Simulation& sim, const std::filesystem::path& dir,
@@ -415,6 +545,8 @@ void WriteSimulation(const Simulation& sim, const std::filesystem::path& dir,
   }
   WriteSessionYaml(session, dir / "session.yaml");
   WriteTracksCsv(sim.tracks, dir / "tracks.csv");
+  WriteFileAtomically(dir / "truth_sightings.csv",
+                      [&](std::ostream& out) { WriteSightingsCsv(sim, out); });
   WriteFileAtomically(dir / "truth.json",
                       [&](std::ostream& out) { out << TruthJson(sim).dump(2) << "\n"; });
   if (!s.video.write) return;

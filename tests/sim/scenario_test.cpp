@@ -113,6 +113,53 @@ TEST_F(ScenarioFileTest, ReadsTheAirTheHandAndTheImpact) {
   EXPECT_EQ(s.impact->restitution, 0.4);
 }
 
+TEST_F(ScenarioFileTest, RendersFlatUnlessToldAndReadsTheRayCastersKeys) {
+  const Scenario plain = ReadScenarioYaml(Write("camera: front.yaml\n"));
+  EXPECT_EQ(plain.render.mode, RenderMode::kFlat);
+  const Scenario s = ReadScenarioYaml(Write(
+      "camera: front.yaml\n"
+      "render: {mode: raycast, marker_kind: retro, occlusion: false, shadows: false}\n"
+      "light: {towards_light_world: [0, 0, 2], ambient: 0.3, diffuse: 0.6, specular: 0.2, "
+      "shininess: 25}\n"));
+  EXPECT_EQ(s.render.mode, RenderMode::kRaycast);
+  EXPECT_EQ(s.render.marker_kind, MarkerMaterial::kRetro);
+  EXPECT_FALSE(s.render.occlusion);
+  EXPECT_FALSE(s.render.shadows);
+  EXPECT_EQ(s.light.towards_light_world, Eigen::Vector3d(0, 0, 1));
+  EXPECT_EQ(s.light.ambient, 0.3);
+  EXPECT_EQ(s.light.diffuse, 0.6);
+  EXPECT_EQ(s.light.specular, 0.2);
+  EXPECT_EQ(s.light.shininess, 25);
+  const Scenario defaults = ReadScenarioYaml(Write("camera: front.yaml\nrender: {mode: raycast}\n"));
+  EXPECT_EQ(defaults.render.marker_kind, MarkerMaterial::kGlossy);
+  EXPECT_TRUE(defaults.render.occlusion && defaults.render.shadows);
+}
+
+TEST(ScenarioFile, TheLitDemoTumbleIsRayCast) {
+  const Scenario s = ReadScenarioYaml(fs::path(TUMBLETRACE_SOURCE_DIR) / "data-demo" / "tumble" /
+                                      "scenario_lit.yaml");
+  EXPECT_EQ(s.render.mode, RenderMode::kRaycast);
+  EXPECT_EQ(s.render.marker_kind, MarkerMaterial::kGlossy);
+  EXPECT_EQ(s.video.body_level, 90.0);
+  EXPECT_NEAR(s.light.towards_light_world.norm(), 1.0, 1e-12);
+}
+
+TEST_F(ScenarioFileTest, BadRenderAndLightKeysAreNamed) {
+  EXPECT_EQ(ErrorReading("camera: front.yaml\nrender: {mode: photoreal}\n"),
+            "scenario.yaml:3: key 'render.mode': expected flat or raycast, got 'photoreal'");
+  EXPECT_EQ(ErrorReading("camera: front.yaml\nrender: {marker_kind: chrome}\n"),
+            "scenario.yaml:3: key 'render.marker_kind': expected sphere, flat or retro, got 'chrome'");
+  EXPECT_NE(ErrorReading("camera: front.yaml\nrender: {shadow: false}\n").find("unknown key 'shadow'"),
+            std::string::npos);
+  EXPECT_EQ(ErrorReading("camera: front.yaml\nlight: {towards_light_world: [0, 0, 0]}\n"),
+            "scenario.yaml:3: key 'light.towards_light_world': expected a non-zero direction, got "
+            "'[0, 0, 0]'");
+  EXPECT_EQ(ErrorReading("camera: front.yaml\nlight: {ambient: -0.1}\n"),
+            "scenario.yaml:3: key 'light.ambient': expected a fraction of the level, >= 0, got '-0.1'");
+  EXPECT_EQ(ErrorReading("camera: front.yaml\nlight: {shininess: 0}\n"),
+            "scenario.yaml:3: key 'light.shininess': expected a highlight exponent > 0, got '0'");
+}
+
 TEST_F(ScenarioFileTest, DragCoefficientNeedsTheBodysReferenceArea) {
   EXPECT_NE(ErrorReading("camera: front.yaml\naero: {cd: 0.47}\n").find("aero_reference"),
             std::string::npos);

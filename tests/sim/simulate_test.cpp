@@ -5,8 +5,12 @@
 #include <fstream>
 #include <nlohmann/json.hpp>
 
+#include <opencv2/calib3d.hpp>
+#include <sstream>
+
 #include "support/scenarios.hpp"
 #include "support/temp_dir.hpp"
+#include "support/tumble_scenarios.hpp"
 #include "tumbletrace/clip/frame_source.hpp"
 #include "tumbletrace/detect/marker_detector.hpp"
 #include "tumbletrace/model/session.hpp"
@@ -34,6 +38,107 @@ TEST(Simulate, DotsTurnedAwayFromTheCameraAreNotTracked) {
   const Simulation sim = SimulateFlight(s);
   EXPECT_LT(sim.tracks.size(), 250u * 6u * 3 / 4);
   EXPECT_GT(sim.tracks.size(), 250u * 6u / 4);
+}
+
+// The wobbling paddle with balls for markers (half sunk in its faces, four on each side).
+Scenario PaddleWithBalls(RenderMode mode) {
+  Scenario s = testing::WobbleScenario(0.0, 3);
+  for (Marker& m : s.body.markers) m.normal_body.reset();
+  s.frames = 120;
+  s.render.mode = mode;
+  return s;
+}
+
+TEST(Simulate, MarkersTheRayCastBodyHidesWhollyAreNotTracked) {
+  const Simulation flat = SimulateFlight(PaddleWithBalls(RenderMode::kFlat));
+  const Simulation cast = SimulateFlight(PaddleWithBalls(RenderMode::kRaycast));
+  // Balls are seen from every side in the flat clip; the board hides those on its far face.
+  EXPECT_EQ(flat.tracks.size(), 120u * 8u);
+  EXPECT_LT(cast.tracks.size(), 120u * 6u);
+  EXPECT_GT(cast.tracks.size(), 120u * 3u);
+  for (const TrackPoint& p : cast.tracks) {
+    const MarkerTruth& t = cast.frames[p.frame].markers[*p.marker - 1];
+    EXPECT_GT(t.visible_fraction, 0.0);
+  }
+  int hidden = 0, partly = 0;
+  for (const FrameTruth& f : cast.frames) {
+    for (const MarkerTruth& t : f.markers) {
+      hidden += t.in_front && t.visible_fraction == 0.0;
+      partly += t.visible_fraction > 0.0 && t.visible_fraction < 0.99;  // the board's rim
+    }
+  }
+  EXPECT_GT(hidden, 120 * 2);
+  EXPECT_GT(partly, 120);
+  // Without occlusion nothing is hidden: the flat clip's tracks.
+  Scenario seen_through = PaddleWithBalls(RenderMode::kRaycast);
+  seen_through.render.occlusion = false;
+  EXPECT_EQ(SimulateFlight(seen_through).tracks.size(), flat.tracks.size());
+}
+
+TEST(Simulate, TruthPixelsAreOpenCVsProjection) {
+  // The exact pixel of each marker against cv::projectPoints (OpenCV calib3d), lens and all.
+  const Scenario s = testing::ObliqueSpinScenario(0.0, 2);
+  const Simulation sim = SimulateFlight(s);
+  const RigidTransform& cfw = *s.camera.camera_from_world;
+  const CameraIntrinsics& k = s.camera.intrinsics;
+  const cv::Matx33d camera_matrix(k.fx_px, 0, k.cx_px, 0, k.fy_px, k.cy_px, 0, 0, 1);
+  const std::vector<double> distortion(k.distortion.begin(), k.distortion.end());
+  int compared = 0;
+  for (const FrameTruth& f : sim.frames) {
+    for (const MarkerTruth& t : f.markers) {
+      const Marker& m = *s.body.FindMarker(t.id);
+      const Eigen::Vector3d x = cfw.Apply(f.state.cm_world_m + f.state.world_from_body * (m.at_body_m - sim.mass.cm_body_m));
+      std::vector<cv::Point2d> projected;
+      cv::projectPoints(std::vector<cv::Point3d>{{x.x(), x.y(), x.z()}}, cv::Vec3d(0, 0, 0),
+                        cv::Vec3d(0, 0, 0), camera_matrix, distortion, projected);
+      EXPECT_NEAR(t.pixel.x(), projected[0].x, 1e-9);
+      EXPECT_NEAR(t.pixel.y(), projected[0].y, 1e-9);
+      ++compared;
+    }
+  }
+  EXPECT_EQ(compared, 250 * 6);
+}
+
+TEST(Simulate, WritesEachSightingsTruth) {
+  Scenario s = PaddleWithBalls(RenderMode::kRaycast);
+  s.frames = 20;
+  s.file = "paddle.yaml";
+  s.video.write = false;
+  const Simulation sim = SimulateFlight(s);
+  const testing::TempDir dir("sightings");
+  WriteSimulation(sim, dir.path(), {});
+  std::ifstream in(dir.path() / "truth_sightings.csv");
+  std::string line;
+  std::getline(in, line);
+  EXPECT_EQ(line, "camera,frame,time_s,marker,x_px,y_px,visible_fraction,shadowed_fraction");
+  int rows = 0;
+  while (std::getline(in, line)) {
+    std::stringstream row(line);
+    std::string camera, field;
+    std::getline(row, camera, ',');
+    std::vector<double> values;
+    while (std::getline(row, field, ',')) values.push_back(std::stod(field));
+    ASSERT_EQ(values.size(), 7u);
+    EXPECT_EQ(camera, "camera");
+    const MarkerTruth& t = sim.frames.at(static_cast<int>(values[0])).markers.at(static_cast<int>(values[2]) - 1);
+    EXPECT_NEAR(values[3], t.pixel.x(), 1e-6);
+    EXPECT_NEAR(values[5], t.visible_fraction, 1e-4);
+    EXPECT_NEAR(values[6], t.shadowed_fraction, 1e-4);
+    ++rows;
+  }
+  EXPECT_EQ(rows, 20 * 8);  // every ball is in front of the camera
+}
+
+TEST(Simulate, RayCastClipShowsTheVisibleBallsBrighterThanTheBody) {
+  Scenario s = PaddleWithBalls(RenderMode::kRaycast);
+  s.image_sigma_levels = 0.0;
+  const Simulation sim = SimulateFlight(s);
+  const cv::Mat frame = RenderSimulatedFrame(sim, 30);
+  for (const MarkerTruth& t : sim.frames[30].markers) {
+    const std::uint8_t level = frame.at<std::uint8_t>(int(std::lround(t.pixel.y())), int(std::lround(t.pixel.x())));
+    if (t.visible_fraction > 0.9) EXPECT_GT(level, s.video.body_level) << "marker " << t.id;
+    if (t.visible_fraction == 0.0) EXPECT_LE(level, s.video.body_level) << "marker " << t.id;
+  }
 }
 
 TEST(Simulate, StateAtMatchesTheFrames) {

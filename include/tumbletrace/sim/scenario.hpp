@@ -28,6 +28,14 @@
 //   impact: {time_s: 0.3, normal: [0, 0, 1], restitution: 0.5, spin_kept: 0.6}   # optional
 //   video: {write: true, format: mp4, playback_fps: 30, exposure_samples: 8, supersampling: 4,
 //           background_level: 40, body_level: 70, dot_level: 230}
+//   render: {mode: flat, marker_kind: sphere, occlusion: true, shadows: true}   # optional:
+//           # mode flat: silhouettes and flat dots (the default); raycast: every sample's
+//           # ray meets the parts and markers (sim/raycast.hpp), lit by `light`, so that the
+//           # body hides and shadows markers. marker_kind sphere (glossy) | flat (matte paint)
+//           # | retro (retro-reflective, lit from the camera); occlusion: false draws the
+//           # markers over everything; shadows: false lights every point (raycast only)
+//   light: {towards_light_world: [-0.6, -0.5, 0.62], ambient: 0.25, diffuse: 0.75,   # optional
+//           specular: 0.4, shininess: 40}                                           # (raycast)
 #pragma once
 
 #include <Eigen/Core>
@@ -40,6 +48,7 @@
 
 #include "tumbletrace/model/body.hpp"
 #include "tumbletrace/model/camera.hpp"
+#include "tumbletrace/sim/shading.hpp"
 
 namespace tumbletrace {
 
@@ -52,6 +61,19 @@ struct VideoSettings {
   double background_level = 40.0;
   double body_level = 70.0;
   double dot_level = 230.0;
+};
+
+enum class RenderMode {
+  kFlat,     // silhouettes at one grey level, markers as flat ellipses over them (render.hpp)
+  kRaycast,  // rays against the parts and markers, shaded, with shadows (raycast.hpp)
+};
+
+// How the clip is drawn (`render:`).
+struct ScenarioRender {
+  RenderMode mode = RenderMode::kFlat;
+  MarkerMaterial marker_kind = MarkerMaterial::kGlossy;  // what the markers are made of (raycast)
+  bool occlusion = true;  // raycast: the body and nearer markers hide markers; false: never
+  bool shadows = true;    // raycast: solids shadow each other; false: all lit
 };
 
 // A marker hidden from the camera over a range of frames (a hand, a shadow, the body).
@@ -117,6 +139,8 @@ struct Scenario {
   std::vector<Occlusion> occlusions;
   int glints_per_frame = 0;          // spurious small bright spots at random places per frame
   VideoSettings video;
+  ScenarioRender render;
+  Lighting light;                    // the ray caster's light (`light:`)
   ScenarioAero aero;
   std::optional<ScenarioHand> hand;
   std::optional<ScenarioImpact> impact;

@@ -19,7 +19,14 @@ struct MarkerTruth {
   int id = 0;
   int camera = 0;  // index in the scenario's FilmingCameras()
   Eigen::Vector2d pixel = Eigen::Vector2d::Zero();  // exact projection at the frame's exposure
-  bool visible = false;  // in the image and facing the camera
+  bool in_front = false;  // the centre is in front of the camera (`pixel` is its projection)
+  bool visible = false;   // in the image and facing the camera (and, when the clip is ray
+                          // cast with occlusion, not wholly hidden)
+  // Of the marker's own image at the frame's time (sim/marker_image.hpp): the part in the
+  // frame and not hidden, and the part of that in a cast shadow. The flat clip hides and
+  // shadows nothing.
+  double visible_fraction = 0.0;
+  double shadowed_fraction = 0.0;
 };
 
 struct FrameTruth {
@@ -49,7 +56,9 @@ RigidState StateAt(const Simulation& sim, double t_s);
 cv::Mat RenderSimulatedFrame(const Simulation& sim, int frame, int camera = 0);
 
 // Writes clip.mp4 (when the scenario asks for video), session.yaml, camera.yaml,
-// body.yaml, truth.json and tracks.csv into `dir` (created when missing). With several
+// body.yaml, truth.json, truth_sightings.csv (per camera, frame and marker in front of the
+// camera: the exact pixel and the visible and shadowed fractions of its image) and
+// tracks.csv into `dir` (created when missing). With several
 // cameras, each has <name>.mp4 (or the folder <name>/) and <name>_camera.yaml, the session
 // is in list form without the clock offsets, and tracks.csv has the camera column.
 // `progress` (may be empty) is called with the number of frames rendered so far, over all
