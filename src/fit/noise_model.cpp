@@ -52,6 +52,35 @@ SeriesSums SumsOf(const SeriesNoise& s, const Eigen::VectorXd& r, const Eigen::M
   return out;
 }
 
+// Sampling variance of a lag-1 estimate from n pairs: (1 - rho^2) / n (Bartlett's formula
+// for an AR(1), Box & Jenkins ch. 6, from memory), at the pooled rho.
+double RhoSamplingVariance(const NoiseModel& model, const SeriesNoise& s) {
+  return (1.0 - model.pooled_rho * model.pooled_rho) / std::max(s.lag1_pairs, 1);
+}
+
+// How much the series' true rho differ: DerSimonian & Laird's moment estimate of the
+// between-study variance (1986), with weights w_s = 1 / v_s:
+// tau^2 = max(0, (Q - (k - 1)) / (sum w - sum w^2 / sum w)), Q = sum w_s (raw_s - mean_w)^2.
+double BetweenSeriesRhoVariance(const NoiseModel& model) {
+  double sum_w = 0.0, sum_w2 = 0.0, sum_wx = 0.0;
+  int k = 0;
+  for (const SeriesNoise& s : model.series) {
+    if (s.lag1_pairs == 0) continue;
+    const double w = 1.0 / RhoSamplingVariance(model, s);
+    sum_w += w;
+    sum_w2 += w * w;
+    sum_wx += w * s.raw_rho;
+    ++k;
+  }
+  if (k < 2) return 0.0;
+  const double mean = sum_wx / sum_w;
+  double q = 0.0;
+  for (const SeriesNoise& s : model.series) {
+    if (s.lag1_pairs > 0) q += std::pow(s.raw_rho - mean, 2) / RhoSamplingVariance(model, s);
+  }
+  return std::max((q - (k - 1)) / (sum_w - sum_w2 / sum_w), 0.0);
+}
+
 double Median(std::vector<double> v) {
   if (v.empty()) return 0.0;
   const auto mid = v.begin() + v.size() / 2;
@@ -100,10 +129,13 @@ NoiseModel EstimateAr1Noise(const Eigen::VectorXd& residuals_px, const Eigen::Ma
   }
   model.pooled_rho = pooled_pairs > 0 ? pooled_lag1 / pooled_pairs : 0.0;
   model.pooled_rho = std::clamp(model.pooled_rho, options.rho_min, options.rho_max);
+  const double tau2 = BetweenSeriesRhoVariance(model);
   std::vector<double> rhos;
   for (SeriesNoise& s : model.series) {
-    const double n = s.lag1_pairs;
-    s.rho = (n * s.raw_rho + options.prior_pairs * model.pooled_rho) / (n + options.prior_pairs);
+    // rho_s = rho_pool + tau^2 / (tau^2 + v_s) (raw_s - rho_pool): the series' own
+    // estimate in so far as the series differ by more than their sampling noise v_s.
+    const double weight = s.lag1_pairs > 0 ? tau2 / (tau2 + RhoSamplingVariance(model, s)) : 0.0;
+    s.rho = model.pooled_rho + weight * (s.raw_rho - model.pooled_rho);
     s.rho = std::clamp(s.rho, options.rho_min, options.rho_max);
     if (s.lag1_pairs > 0) rhos.push_back(s.rho);
   }

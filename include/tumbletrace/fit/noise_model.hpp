@@ -22,8 +22,12 @@
 // residual maker's expectation, Seber & Lee, Linear Regression Analysis, ch. 3, from
 // memory). A short series borrows from the pooled estimates: the variance by a prior of
 // `prior_residuals` residuals at the pooled variance (Smyth 2004, Stat. Appl. Genet. Mol.
-// Biol. 3(1), art. 3: the moderated variance), rho by a prior of `prior_pairs` lag-1 pairs
-// at the pooled rho; rho is bounded to [rho_min, rho_max].
+// Biol. 3(1), art. 3: the moderated variance). Each rho is pulled towards the pooled rho
+// by the share of its sampling variance v_s = (1 - rho^2) / pairs (Bartlett's formula, Box &
+// Jenkins ch. 6) in v_s + tau^2, tau^2 the spread of the series' true rho by moments
+// (DerSimonian & Laird 1986, Control. Clin. Trials 7, 177-188): series that differ by no
+// more than their noise share the pooled rho, a series of a few sightings takes it, and
+// series that truly differ keep their own. rho is bounded to [rho_min, rho_max].
 //
 // J_s^T Omega_s J_s needs no T x T matrix: (Omega_s J_s)_t = sigma_s^2 (j_t + F_t + B_t)
 // with the forward and backward sums F_t = rho^(f_t - f_t-1) (F_t-1 + j_t-1), B_t =
@@ -46,7 +50,6 @@ struct NoiseRow {
 
 struct NoiseModelOptions {
   double prior_residuals = 4.0;  // pseudo-residuals at the pooled variance (shrinkage)
-  double prior_pairs = 10.0;     // pseudo-pairs at the pooled rho (shrinkage)
   double rho_min = -0.9;
   double rho_max = 0.99;         // a series' bias that hardly changes over the window
 };
