@@ -123,9 +123,11 @@ RunsTest Runs(const std::vector<ResidualRecord>& residuals, double z_limit) {
     out.sentence = fmt::format(
         "The residuals are correlated in time: {} sign runs against {:.0f} expected for "
         "independent noise (z = {:+.1f}), lag-1 autocorrelation {:+.3f}. A model error (drag, "
-        "a wrong window, a misidentified marker) or video compression can cause it; the "
-        "reported uncertainties assume independent noise and may be too small by up to a "
-        "factor {:.2f} (sqrt((1 + rho) / (1 - rho))).",
+        "a wrong window, a misidentified marker) or video compression can cause it. The "
+        "reported uncertainties allow for noise correlated in time (each residual series' "
+        "AR(1), fit.noise_model), which widens them here by up to about a factor {:.2f} "
+        "(sqrt((1 + rho) / (1 - rho))); they do not allow for a model error, which biases the "
+        "estimates.",
         out.runs, out.expected_runs, out.z, out.lag1_autocorrelation, std::sqrt(out.variance_factor));
   } else {
     out.sentence = fmt::format(

@@ -16,6 +16,8 @@
 #include "tumbletrace/core/error.hpp"
 #include "tumbletrace/fit/initialise.hpp"
 #include "tumbletrace/fit/moment_bounds.hpp"
+#include "tumbletrace/fit/noise_model.hpp"
+#include "tumbletrace/fit/robust_scale.hpp"
 #include "tumbletrace/fit/reprojection_cost.hpp"
 #include "tumbletrace/fit/symmetric_axes_manifold.hpp"
 
@@ -286,18 +288,16 @@ std::vector<Eigen::Vector2d> Residuals(const FitContext& ctx, const FlightParame
   return r;
 }
 
-// Robust per-coordinate noise: 1.4826 x the median absolute residual component (the
-// normal-consistent MAD, common practice).
-double RobustSigma(const std::vector<Eigen::Vector2d>& r) {
-  std::vector<double> a;
-  a.reserve(2 * r.size());
-  for (const auto& e : r) {
-    a.push_back(std::abs(e.x()));
-    a.push_back(std::abs(e.y()));
+// Each sighting's group for the outlier test: its camera x marker, numbered from 0.
+std::vector<int> MarkerGroups(const std::vector<Sighting>& sightings) {
+  std::map<std::pair<int, int>, int> index;
+  std::vector<int> group;
+  group.reserve(sightings.size());
+  for (const Sighting& s : sightings) {
+    group.push_back(index.emplace(std::make_pair(s.camera, s.marker_id),
+                                  static_cast<int>(index.size())).first->second);
   }
-  const auto mid = a.begin() + a.size() / 2;
-  std::nth_element(a.begin(), mid, a.end());
-  return 1.4826 * *mid;
+  return group;
 }
 
 // Dense Jacobian of all residuals in the tangent spaces of the active blocks (columns in
@@ -379,6 +379,73 @@ double LayoutSize(const Body& body) {
   return size;
 }
 
+// The residuals of the problem's rows, in the order of DenseJacobian's rows.
+Eigen::VectorXd EvaluateResiduals(const ModelProblem& mp) {
+  std::vector<double> residuals;
+  mp.problem->Evaluate(ceres::Problem::EvaluateOptions{}, nullptr, &residuals, nullptr, nullptr);
+  return Eigen::Map<const Eigen::VectorXd>(residuals.data(), static_cast<Eigen::Index>(residuals.size()));
+}
+
+// Each residual row's series and frame: the used sightings in order, x then y.
+std::vector<NoiseRow> NoiseRowsOf(const std::vector<Sighting>& sightings,
+                                  const std::vector<bool>& use) {
+  std::vector<NoiseRow> rows;
+  for (size_t i = 0; i < sightings.size(); ++i) {
+    if (!use[i]) continue;
+    for (int coordinate = 0; coordinate < 2; ++coordinate) {
+      rows.push_back({sightings[i].camera, sightings[i].marker_id, coordinate, sightings[i].frame});
+    }
+  }
+  return rows;
+}
+
+// The map from the active blocks' tangent columns (DenseJacobian's order) to the
+// covariance layout (CovarianceBlock): layout = embed * tangent.
+Eigen::MatrixXd LayoutEmbedding(const ModelProblem& mp, int layout_size) {
+  int columns = 0;
+  for (const ActiveBlock& a : mp.active) columns += a.tangent();
+  Eigen::MatrixXd embed = Eigen::MatrixXd::Zero(layout_size, columns);
+  int column = 0;
+  for (const ActiveBlock& a : mp.active) {
+    embed.block(a.layout, column, a.embed.rows(), a.tangent()) = a.embed;
+    column += a.tangent();
+  }
+  return embed;
+}
+
+// (J^T J)^+ in the tangent space of the active blocks (Ceres' dense SVD, the
+// `null_space_rank` smallest eigenvalues dropped). Throws DataError when it fails.
+Eigen::MatrixXd InformationPseudoInverse(const ModelProblem& mp, int null_space_rank) {
+  ceres::Covariance::Options cov_options;
+  cov_options.algorithm_type = ceres::DENSE_SVD;
+  cov_options.null_space_rank = null_space_rank;
+  cov_options.min_reciprocal_condition_number = 1e-20;
+  cov_options.num_threads = 1;
+  ceres::Covariance covariance(cov_options);
+  std::vector<std::pair<const double*, const double*>> pairs;
+  std::vector<const double*> blocks;
+  int columns = 0;
+  for (size_t i = 0; i < mp.active.size(); ++i) {
+    blocks.push_back(mp.active[i].data);
+    columns += mp.active[i].tangent();
+    for (size_t j = i; j < mp.active.size(); ++j) pairs.emplace_back(mp.active[i].data, mp.active[j].data);
+  }
+  Eigen::Matrix<double, Eigen::Dynamic, Eigen::Dynamic, Eigen::RowMajor> out(columns, columns);
+  if (!covariance.Compute(pairs, mp.problem.get()) ||
+      !covariance.GetCovarianceMatrixInTangentSpace(blocks, out.data())) {
+    throw DataError("the covariance of the fit could not be computed (the problem is singular "
+                    "beyond the unobservable CM directions)");
+  }
+  return out;
+}
+
+// The covariance of c's observable part: projected off the unobservable directions.
+Eigen::Matrix3d ObservableCmCovariance(const Eigen::MatrixXd& covariance, const CmObservability& cm) {
+  Eigen::Matrix3d projector = Eigen::Matrix3d::Identity();
+  for (const Eigen::Vector3d& u : cm.unobservable_body) projector -= u * u.transpose();
+  return projector * covariance.block<3, 3>(kCm, kCm) * projector.transpose();
+}
+
 // One rotation model fitted: its parameters, the sightings it kept and Ceres' summary.
 struct ModelFit {
   RotationModel model = RotationModel::kConstantSpin;
@@ -404,16 +471,17 @@ ModelFit FitModel(const FitContext& ctx, RotationModel model, const FlightParame
     std::fill(use.begin(), use.end(), true);
     ModelProblem robust = BuildProblem(ctx, model, use, true, &blocks);
     Solve(robust.problem.get(), ctx.options, Precision::kComparison);
+    const std::vector<int> group = MarkerGroups(ctx.sightings);
     for (int round = 0; round < 3; ++round) {
       const std::vector<Eigen::Vector2d> r = Residuals(ctx, blocks.ToParameters());
-      std::vector<Eigen::Vector2d> inlier_r;
-      for (size_t i = 0; i < r.size(); ++i) {
-        if (use[i]) inlier_r.push_back(r[i]);
-      }
-      const double sigma = RobustSigma(round == 0 ? r : inlier_r);
-      const double limit_px = ctx.options.outlier_threshold_sigma * std::max(sigma, 1e-6);
+      // Each marker against its own robust scale (fit/robust_scale.hpp), from every
+      // sighting in the first round and from the inliers after.
+      const std::vector<double> sigma = RobustSigmaPerGroupPx(
+          r, group, round == 0 ? std::vector<bool>{} : use, ctx.options.outlier_scale);
       std::vector<bool> next(r.size());
-      for (size_t i = 0; i < r.size(); ++i) next[i] = r[i].norm() <= limit_px;
+      for (size_t i = 0; i < r.size(); ++i) {
+        next[i] = r[i].norm() <= ctx.options.outlier_threshold_sigma * std::max(sigma[i], 1e-6);
+      }
       if (round > 0 && next == use) break;
       use = next;
       ModelProblem mp = BuildProblem(ctx, model, use, false, &blocks);
@@ -587,6 +655,17 @@ ModelFit ChooseTranslationModel(const FitContext& ctx, const ModelFit& vacuum, F
 }
 
 }  // namespace
+
+FitResult WithWhiteNoiseCovariance(FitResult fit) {
+  fit.covariance = fit.white_noise_covariance;
+  fit.cm.covariance_m2 = ObservableCmCovariance(fit.covariance, fit.cm);
+  for (size_t k = 0; k < fit.sigma_time_offsets_s.size(); ++k) {
+    fit.sigma_time_offsets_s[k] =
+        std::sqrt(std::max(fit.covariance(kTimeOffsets + k, kTimeOffsets + k), 0.0));
+  }
+  fit.variance_factor_cm.setOnes();
+  return fit;
+}
 
 FitResult FitFreeFlight(const std::vector<FrameSightings>& frames, const Body& body,
                         const Camera& camera, const FitOptions& options) {
@@ -853,54 +932,34 @@ FitResult FitFreeFlight(const std::vector<FrameSightings>& frames, const Body& b
     result.cm = AnalyseCm(jacobian, cm_column, result.sigma_px, layout_size_m, options);
     result.parameters = blocks.ToParameters();
   }
-  // Covariance by Ceres: the Moore-Penrose inverse of J^T J in the tangent space, scaled
-  // by s^2. The dense SVD drops exactly as many of the smallest eigenvalues as the CM has
-  // unobservable directions (each is a gauge freedom of c with r0): inverting a
-  // numerically zero eigenvalue instead would leak an arbitrary variance into every
-  // parameter.
-  ceres::Covariance::Options cov_options;
-  cov_options.algorithm_type = ceres::DENSE_SVD;
-  // (and, for a torque-free model the data do not support, its undetermined directions)
-  cov_options.null_space_rank =
-      std::max(static_cast<int>(result.cm.unobservable_body.size()),
-               static_cast<int>(jacobian.cols()) - rank);
-  cov_options.min_reciprocal_condition_number = 1e-20;
-  cov_options.num_threads = 1;
-  ceres::Covariance covariance(cov_options);
-  std::vector<std::pair<const double*, const double*>> pairs;
-  for (size_t i = 0; i < mp.active.size(); ++i) {
-    for (size_t j = i; j < mp.active.size(); ++j) pairs.emplace_back(mp.active[i].data, mp.active[j].data);
-  }
-  const int layout_size = TangentSize(static_cast<int>(cameras.size()));
-  result.covariance = Eigen::MatrixXd::Zero(layout_size, layout_size);
-  if (!covariance.Compute(pairs, mp.problem.get())) {
-    throw DataError("the covariance of the fit could not be computed (the problem is singular "
-                    "beyond the unobservable CM directions)");
-  }
-  const double s2 = result.sigma_px * result.sigma_px;
-  for (size_t i = 0; i < mp.active.size(); ++i) {
-    for (size_t j = i; j < mp.active.size(); ++j) {
-      const ActiveBlock& a = mp.active[i];
-      const ActiveBlock& b = mp.active[j];
-      Eigen::Matrix<double, Eigen::Dynamic, Eigen::Dynamic, Eigen::RowMajor> block(a.tangent(),
-                                                                                   b.tangent());
-      covariance.GetCovarianceBlockInTangentSpace(a.data, b.data, block.data());
-      const Eigen::MatrixXd mapped = s2 * a.embed * block * b.embed.transpose();
-      result.covariance.block(a.layout, b.layout, mapped.rows(), mapped.cols()) = mapped;
-      result.covariance.block(b.layout, a.layout, mapped.cols(), mapped.rows()) = mapped.transpose();
-    }
-  }
+  // (J^T J)^+ by Ceres (DENSE_SVD). The dense SVD drops exactly as many of the smallest
+  // eigenvalues as the CM has unobservable directions (each is a gauge freedom of c with
+  // r0): inverting a numerically zero eigenvalue instead would leak an arbitrary variance
+  // into every parameter. (And, for a torque-free model the data do not support, its
+  // undetermined directions.)
+  const Eigen::MatrixXd information_pinv = InformationPseudoInverse(
+      mp, std::max(static_cast<int>(result.cm.unobservable_body.size()),
+                   static_cast<int>(jacobian.cols()) - rank));
+  const Eigen::MatrixXd embed = LayoutEmbedding(mp, TangentSize(static_cast<int>(cameras.size())));
+  result.white_noise_covariance =
+      embed * (result.sigma_px * result.sigma_px * information_pinv) * embed.transpose();
+  // The reported covariance: the sandwich under per-series AR(1) noise (fit/noise_model.hpp).
+  result.noise = EstimateAr1Noise(EvaluateResiduals(mp), jacobian, information_pinv,
+                                  NoiseRowsOf(sightings, use), options.noise_model);
+  result.covariance =
+      embed * SandwichCovariance(jacobian, information_pinv, result.noise) * embed.transpose();
   for (size_t k = 0; k < cameras.size(); ++k) {
     result.time_offsets_s.push_back(result.parameters.time_offsets_s[k]);
     result.sigma_time_offsets_s.push_back(
         std::sqrt(std::max(result.covariance(kTimeOffsets + k, kTimeOffsets + k), 0.0)));
   }
 
-  // The covariance of c's observable part: projected off the unobservable directions.
-  Eigen::Matrix3d projector = Eigen::Matrix3d::Identity();
-  for (const Eigen::Vector3d& u : result.cm.unobservable_body) projector -= u * u.transpose();
-  result.cm.covariance_m2 =
-      projector * result.covariance.block<3, 3>(kCm, kCm) * projector.transpose();
+  result.cm.covariance_m2 = ObservableCmCovariance(result.covariance, result.cm);
+  const Eigen::Matrix3d white_cm = ObservableCmCovariance(result.white_noise_covariance, result.cm);
+  for (int i = 0; i < 3; ++i) {
+    result.variance_factor_cm[i] =
+        white_cm(i, i) > 0 ? result.cm.covariance_m2(i, i) / white_cm(i, i) : 1.0;
+  }
   for (const Eigen::Vector3d& u : result.cm.unobservable_body) {
     const Eigen::Vector3d axis_world = fitted.WorldFromBodyAt(t0_s) * u;
     result.warnings.push_back(fmt::format(

@@ -818,20 +818,24 @@ model's other parameters minimise the sum of squared reprojection errors in pixe
 Solver, Levenberg-Marquardt), after a robust first pass that marks outliers. The rotation and air
 models are chosen by the Bayesian information criterion unless asked for; the free-flight window
 is found from the data unless given.</p>
-<p><b>Uncertainty.</b> The covariance of the parameters is s<sup>2</sup> (J<sup>T</sup>J)<sup>+</sup>,
-with J the Jacobian at the solution and s<sup>2</sup> = &Sigma;r<sup>2</sup> / (2n - p) the noise
-per pixel coordinate measured from the n inlier sightings' residuals (ceres::Covariance, a
-Moore-Penrose inverse). Derived quantities (speed, angle, spin rate, distances) are propagated to
-first order. 1-sigma values are the square roots of the variances; 95 % intervals are
-&plusmn;1.96 sigma. When the runs test finds residuals correlated in time, the sigmas may be
-optimistic by the factor its sentence gives. A direction the throw does not determine (the CM along a fixed spin axis)
+<p><b>Uncertainty.</b> The covariance of the parameters is the sandwich
+A<sup>+</sup> (J<sup>T</sup>&Omega;J) A<sup>+</sup>, A = J<sup>T</sup>J, with J the Jacobian at the
+solution (A<sup>+</sup> from ceres::Covariance, a Moore-Penrose inverse) and &Omega; the covariance of
+the pixel errors: one series per camera, marker and image coordinate, each with its own noise level
+and a lag-1 correlation in time (an AR(1) model, a gap of g frames correlating as &rho;<sup>g</sup>),
+both estimated from that series' residuals and corrected for what the fit absorbed. With independent
+errors of one level it is the usual s<sup>2</sup> (J<sup>T</sup>J)<sup>+</sup>. Sightings beyond 4.29
+robust standard deviations of their own marker are left out as outliers. Derived quantities (speed,
+angle, spin rate, distances) are propagated to first order. 1-sigma values are the square roots of
+the variances; 95 % intervals are &plusmn;1.96 sigma. The sigmas do not cover a model error, nor the
+camera's own uncertainty. A direction the throw does not determine (the CM along a fixed spin axis)
 is reported as not determined, never as a number. See docs/method.md for the equations and
 sources.</p>
 <p><b>The verdict</b> at the top is poor when the fit did not converge, when more than 5 % of the
 sightings are outliers, when its rms exceeds 1 px
 (a marker's centre is found to a fraction of a pixel) or is more than twice the median frame's
 rms (some frames the model misses), when the runs test finds residuals so correlated in time that
-the sigmas may be more than 1.5 times too small, or when a
+its AR(1) factor on the sigmas exceeds 1.5 (more likely a misfit than noise), or when a
 flag says the model breaks within the fitted frames (release, contact, impact, a marker, frames;
 flags outside them mark the window's ends); it asks for caution when only warnings or other flags remain.</p>
 )";
@@ -905,13 +909,14 @@ Verdict AssessFit(const ReportData& data) {
   }
   if (const json* white = Find(r, "diagnostics.runs_test.white"); white && white->is_boolean() && !white->get<bool>() &&
                                                                     Number(r, "diagnostics.runs_test.runs").value_or(0) > 0) {
-    // The sigmas may be optimistic by sqrt((1 + rho) / (1 - rho)) (an AR(1) approximation,
-    // docs/method.md): beyond 1.5 the residuals' pattern is a misfit, below it mostly the
-    // video's compression.
+    // The sigmas allow for it as noise (the per-series AR(1) sandwich, docs/method.md), by
+    // about sqrt((1 + rho) / (1 - rho)): beyond 1.5 the residuals' pattern is more likely a
+    // misfit of the model, which no sigma covers; below it mostly the video's compression.
     const double factor = std::sqrt(Number(r, "diagnostics.runs_test.variance_factor").value_or(1.0));
     (factor > 1.5 ? poor : caution)
-        .push_back(fmt::format("the residuals are correlated in time (runs test): the uncertainties may be too "
-                               "small by a factor {:.2f}",
+        .push_back(fmt::format("the residuals are correlated in time (runs test): the uncertainties allow for "
+                               "it as noise (about a factor {:.2f} wider), but a pattern this strong can also "
+                               "be a misfit of the model, which they do not cover",
                                factor));
   }
   const double observations = Number(r, "fit.observations").value_or(0.0);
@@ -999,6 +1004,9 @@ std::string HtmlReport(const ReportData& data) {
           ConservationPlots(data, time) + AccelerationPlot(data, time) + "</div>\n";
   html += "<h2>Free-flight window and diagnostics</h2>\n" + WindowAndDiagnostics(data);
   html += "<h2>Method</h2>\n" + std::string(kMethod);
+  if (const std::string noise = Text(data.results, "fit.noise_model.sentence"); !noise.empty()) {
+    html += "<p><b>This fit's noise.</b> " + H(noise) + "</p>\n";
+  }
   html += "<h2>Inputs and provenance</h2>\n" + ProvenanceSection(data);
   html += "</body>\n</html>\n";
   return html;

@@ -3,6 +3,7 @@
 #include <fmt/format.h>
 
 #include <cmath>
+#include <limits>
 #include <map>
 #include <sstream>
 
@@ -19,6 +20,52 @@ json Maybe(const std::optional<double>& v) { return v ? json(*v) : json(nullptr)
 json Vec(const Eigen::Vector3d& v) { return {v.x(), v.y(), v.z()}; }
 
 json Vec(const MaybeVector3& v) { return {Maybe(v[0]), Maybe(v[1]), Maybe(v[2])}; }
+
+// The smallest and largest per-series noise level, px.
+std::pair<double, double> SeriesSigmaRange(const NoiseModel& noise) {
+  double low = std::numeric_limits<double>::infinity(), high = 0.0;
+  for (const SeriesNoise& series : noise.series) {
+    low = std::min(low, std::sqrt(series.variance_px2));
+    high = std::max(high, std::sqrt(series.variance_px2));
+  }
+  return {noise.series.empty() ? 0.0 : low, high};
+}
+
+// What the reported sigmas cover, in words (the text summary and report.html say it).
+std::string NoiseModelSentence(const FitResult& fit, const FlightSummary& s) {
+  const auto [low, high] = SeriesSigmaRange(fit.noise);
+  std::string factors;
+  const char* axes = "xyz";
+  for (int i = 0; i < 3; ++i) {
+    if (!s.cm_sigma_m[i]) continue;
+    factors += fmt::format("{}{} {:.2f}", factors.empty() ? "" : ", ", axes[i],
+                           fit.variance_factor_cm[i]);
+  }
+  return fmt::format(
+      "The sigmas allow for errors that differ in level from marker to marker and are "
+      "correlated from frame to frame: each of the {} residual series (camera x marker x "
+      "image coordinate) has its own noise level ({:.3f}-{:.3f} px) and lag-1 correlation "
+      "(median {:.2f}, largest {:.2f}), an AR(1) model entering a sandwich covariance. Against "
+      "independent errors of one level, the CM's variances are {} times as large ({}).",
+      fit.noise.series.size(), low, high, fit.noise.median_rho, fit.noise.max_rho,
+      factors.empty() ? "-" : "these", factors.empty() ? "no CM component determined" : factors);
+}
+
+json NoiseModelJson(const FitResult& fit, const FlightSummary& s) {
+  json factors = json::array();
+  for (int i = 0; i < 3; ++i) {
+    factors.push_back(s.cm_sigma_m[i] ? json(fit.variance_factor_cm[i]) : json(nullptr));
+  }
+  const auto [low, high] = SeriesSigmaRange(fit.noise);
+  return {{"kind", "ar1-sandwich"},
+          {"variance_factor_cm", factors},
+          {"series", fit.noise.series.size()},
+          {"median_rho", fit.noise.median_rho},
+          {"max_rho", fit.noise.max_rho},
+          {"pooled_rho", fit.noise.pooled_rho},
+          {"sigma_px_range", {low, high}},
+          {"sentence", NoiseModelSentence(fit, s)}};
+}
 
 json Interval95(const MaybeVector3& value, const MaybeVector3& sigma) {
   json out = json::array();
@@ -263,6 +310,7 @@ json ResultsJson(const FitResult& fit, const FlightSummary& s, const Provenance&
               {"observations", fit.observations},
               {"outliers", fit.outliers},
               {"degrees_of_freedom", fit.degrees_of_freedom},
+              {"noise_model", NoiseModelJson(fit, s)},
               {"iterations", fit.iterations},
               {"model", std::string(s.drag.model == TranslationModel::kVacuum
                                         ? "ballistic"
@@ -448,6 +496,7 @@ std::string SummaryText(const FitResult& fit, const FlightSummary& s,
     out << fmt::format(", rotational {:.3f} J/kg (parts-list inertia)", *s.rotational_energy_per_mass_jpkg);
   }
   out << "\n";
+  out << "Uncertainty: " << NoiseModelSentence(fit, s) << "\n";
   {
     const DragSummary& d = s.drag;
     if (d.model == TranslationModel::kVacuum) {

@@ -32,10 +32,13 @@ TEST(Summary, FitReturnsTheCmLinePointNearestTheBodyOriginWithUnchangedPredictio
 
 TEST(Summary, CeresCovarianceAgreesWithTheSchurComplementOnObservableDirections) {
   // Two routes to the CM's uncertainty: Ceres' pseudo-inverse of J^T J (then projected)
-  // and the inverse of the Schur complement of c, from the same Jacobian.
+  // and the inverse of the Schur complement of c, from the same Jacobian. Both under
+  // independent noise of one level (the white-noise covariance: the information is
+  // scaled by sigma_px).
   const Scenario s = testing::PlanarSpinScenario(0.2, 22);
   const auto r = testing::SimulateAndFit(s, testing::DefaultFitOptions(s));
-  const CmObservability& cm = r.fit.cm;
+  const FitResult white = WithWhiteNoiseCovariance(r.fit);
+  const CmObservability& cm = white.cm;
   int observable = 0;
   for (int k = 0; k < 3; ++k) {
     const Eigen::Vector3d e = cm.information_eigenvectors.col(k);

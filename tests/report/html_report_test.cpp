@@ -94,6 +94,8 @@ TEST_F(HtmlReportTest, SoundFitPageShowsTheVerdictNumbersAndPlotsWithoutScriptsO
   EXPECT_EQ(html.find(">nan"), std::string::npos);
   EXPECT_EQ(html.find(" nan "), std::string::npos);
   EXPECT_NE(html.find("Method"), std::string::npos);
+  // The method section says what this fit's sigmas cover.
+  EXPECT_NE(html.find("This fit's noise.</b> The sigmas allow for errors"), std::string::npos);
   EXPECT_NE(html.find(Sha256HexOfFile(dir() / "body.yaml")), std::string::npos);
 }
 

@@ -273,6 +273,19 @@ TEST_F(ResultsFilesTest, ModelInertiaDragAndFitKeysHaveTheContractShapes) {
   EXPECT_LE(f["outliers"].get<int>(), 3);
   ASSERT_TRUE(f.at("model").is_string());
   EXPECT_FALSE(f["model"].get<std::string>().empty());
+
+  // What the sigmas cover: the planar throw leaves c_z undetermined, so its factor is null;
+  // independent noise of one level gives factors near 1 and rho near 0.
+  const json& noise = f.at("noise_model");
+  EXPECT_EQ(noise.at("kind"), "ar1-sandwich");
+  EXPECT_EQ(noise.at("series").get<int>(), 12);  // 6 markers x 2 coordinates
+  const json& factors = noise.at("variance_factor_cm");
+  ASSERT_EQ(factors.size(), 3u);
+  for (int i = 0; i < 2; ++i) EXPECT_NEAR(factors[i].get<double>(), 1.0, 0.15) << i;
+  EXPECT_TRUE(factors[2].is_null());
+  EXPECT_LT(std::abs(noise.at("median_rho").get<double>()), 0.1);
+  EXPECT_GE(noise.at("max_rho").get<double>(), noise.at("median_rho").get<double>());
+  EXPECT_NE(noise.at("sentence").get<std::string>().find("AR(1)"), std::string::npos);
 }
 
 TEST_F(ResultsFilesTest, WarningsSayWhyTheCmIsUndetermined) {

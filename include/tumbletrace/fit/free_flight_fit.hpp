@@ -4,9 +4,10 @@
 // manifold), w (angular velocity, world), c (CM in the body frame) and, when asked, g.
 // Residuals are in pixels. The fit runs in two passes: a robust pass (Huber loss of scale
 // `robust_loss_scale_px`) from the closed-form initialisation, then sightings whose
-// residual exceeds `outlier_threshold` robust standard deviations are set aside as
-// outliers and the problem is solved again by plain least squares, so that the covariance
-// is that of the inliers' Gaussian model.
+// residual exceeds `outlier_threshold` robust standard deviations of its own marker are set
+// aside as outliers and the problem is solved again by plain least squares on the rest.
+// The covariance is the sandwich of that estimator under a noise model of per-series
+// variances and AR(1) correlation in time (fit/noise_model.hpp).
 #pragma once
 
 #include <Eigen/Core>
@@ -15,7 +16,9 @@
 #include <string>
 #include <vector>
 
+#include "tumbletrace/fit/noise_model.hpp"
 #include "tumbletrace/fit/observations.hpp"
+#include "tumbletrace/fit/robust_scale.hpp"
 #include "tumbletrace/fit/torque_free.hpp"
 #include "tumbletrace/model/body.hpp"
 #include "tumbletrace/model/camera.hpp"
@@ -63,6 +66,10 @@ struct FitOptions {
   Eigen::Vector3d gravity_world_mps2 = {0, 0, -9.80665};  // the fixed value, or the start
   double robust_loss_scale_px = 1.0;   // Huber scale of the first pass, px
   double outlier_threshold_sigma = 4.29;  // chi-square(2 dof) 0.9999 quantile, sqrt
+  // Each marker's own robust scale for the outlier test (fit/robust_scale.hpp).
+  RobustScaleOptions outlier_scale;
+  // The per-series AR(1) noise model of the covariance (fit/noise_model.hpp).
+  NoiseModelOptions noise_model;
   int min_markers_per_frame = 4;       // for the per-frame poses of the initialisation
   int initial_pose_frames = 60;       // frames posed by PnP for the start, spread evenly
   int max_iterations = 200;
@@ -172,9 +179,17 @@ struct FitResult {
   double rms_px = 0.0;          // rms of the inliers' residual vectors' components, px
   double sigma_px = 0.0;        // estimated per-coordinate noise, px (dof-corrected)
   int degrees_of_freedom = 0;
-  // Tangent-space covariance scaled by sigma_px^2 (order of CovarianceBlock). Entries
-  // involving unobservable directions are meaningless and must not be reported.
+  // Tangent-space covariance (order of CovarianceBlock): the sandwich A^+ (J^T Omega J) A^+
+  // of the per-series AR(1) noise model `noise` (fit/noise_model.hpp). Entries involving
+  // unobservable directions are meaningless and must not be reported.
   Eigen::MatrixXd covariance;
+  // The same under independent errors of one variance, sigma_px^2 (J^T J)^+: kept for the
+  // comparison (`WithWhiteNoiseCovariance`), never reported as the uncertainty.
+  Eigen::MatrixXd white_noise_covariance;
+  NoiseModel noise;
+  // Variance of each body-frame CM component under `covariance` over that under
+  // `white_noise_covariance` (1 where the white-noise variance is 0).
+  Eigen::Vector3d variance_factor_cm = Eigen::Vector3d::Ones();
   // The rotation models tried, with the criterion that chose among them.
   struct ModelTrial {
     RotationModel model = RotationModel::kConstantSpin;
@@ -221,5 +236,9 @@ FitResult FitFreeFlight(const std::vector<FrameSightings>& frames, const Body& b
 // One camera.
 FitResult FitFreeFlight(const std::vector<FrameSightings>& frames, const Body& body,
                         const Camera& camera, const FitOptions& options);
+
+// The fit with its covariance (and the CM's) replaced by the white-noise one: what the
+// uncertainty would be if the residuals were independent with one variance.
+FitResult WithWhiteNoiseCovariance(FitResult fit);
 
 }  // namespace tumbletrace
