@@ -64,7 +64,7 @@ bool GaussNewton(const std::vector<EdgePoint>& points, const std::vector<double>
                  Eigen::Matrix<double, N, 1>* params, Eigen::Matrix<double, N, N>* normal,
                  double* weighted_sum) {
   using Vector = Eigen::Matrix<double, N, 1>;
-  for (int iteration = 0; iteration < 20; ++iteration) {
+  for (int iteration = 0; iteration < 10; ++iteration) {
     Eigen::Matrix<double, N, N> jtj = Eigen::Matrix<double, N, N>::Zero();
     Vector jtr = Vector::Zero();
     double sum = 0.0;
@@ -83,7 +83,7 @@ bool GaussNewton(const std::vector<EdgePoint>& points, const std::vector<double>
     const Vector step = -ldlt.solve(jtr);
     if (!step.allFinite()) return false;
     *params += step;
-    if (step.template head<2>().norm() < 1e-6) break;
+    if (step.template head<2>().norm() < 1e-5) break;  // far below the noise
   }
   return params->allFinite();
 }
