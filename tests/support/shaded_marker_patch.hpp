@@ -6,8 +6,9 @@
 // passed through JPEG (the blockwise DCT quantisation of lossy video).
 //
 // The sphere is seen orthographically: its outline is the circle |p - c| = R and its
-// projected centre is c exactly (perspective moves the outline's centre by less than
-// (R / f)^2 of the distance from the principal point; see the detector's header).
+// projected centre is c exactly (through a pinhole the outline's centre moves outward by
+// about (r / f)^2 / cos^2 a of its distance from the principal point, a the angle off the
+// axis; see the detector's header).
 #pragma once
 
 #include <Eigen/Core>
