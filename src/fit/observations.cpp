@@ -14,6 +14,7 @@ std::vector<FrameSightings> GroupByFrame(const std::vector<TrackPoint>& points,
   std::map<std::pair<int, int>, FrameSightings> by_frame;
   for (const TrackPoint& p : points) {
     if (!p.marker) continue;
+    if (p.quality == 0.0) continue;  // kept for its track's continuity, not for the fit
     if (p.camera < 0 || p.camera >= static_cast<int>(capture_fps_per_camera.size())) {
       throw InputError(fmt::format("tracks: a point of frame {} belongs to camera {}, but the "
                                    "session names {} camera(s)",

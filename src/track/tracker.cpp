@@ -116,6 +116,12 @@ std::string TrackerOptions::Validate() const {
   if (!(std::isfinite(search_margin_px) && search_margin_px >= 0)) {
     return "search_margin_px must be 0 or more pixels (got " + Number(search_margin_px) + ")";
   }
+  if (!(min_radius_of_track >= 0 && min_radius_of_track <= 1)) {
+    return "min_radius_of_track must be 0..1 (got " + Number(min_radius_of_track) + ")";
+  }
+  if (radius_history < 1) {
+    return "radius_history must be at least 1 (got " + std::to_string(radius_history) + ")";
+  }
   return "";
 }
 
@@ -336,21 +342,11 @@ void Tracker::Add(int frame, double time_s, const std::vector<Detection>& detect
   }
 
   // Extend the assigned tracks, start tracks from the free detections, end the lost ones.
-  const auto point_of = [&](const Detection& d, int track_id) {
-    TrackPoint p;
-    p.frame = frame;
-    p.time_s = time_s;
-    p.track = track_id;
-    p.x_px = d.center_px.x();
-    p.y_px = d.center_px.y();
-    p.quality = d.quality;
-    return p;
-  };
   bool unassigned_detection = false;
   for (int d = 0; d < n_detections; ++d) {
     if (assigned_track[d] >= 0) {
       Track& track = tracks_[assigned_track[d]];
-      track.points.push_back(point_of(detections[d], track.id));
+      track.points.push_back(PointFor(&track, detections[d], frame, time_s));
       track.merging = false;
     } else {
       unassigned_detection = true;
@@ -369,13 +365,46 @@ void Tracker::Add(int frame, double time_s, const std::vector<Detection>& detect
     if (assigned_track[d] >= 0 || withheld[d]) continue;
     Track track;
     track.id = static_cast<int>(tracks_.size()) + 1;
-    track.points.push_back(point_of(detections[d], track.id));
+    track.points.push_back(PointFor(&track, detections[d], frame, time_s));
     live.push_back(tracks_.size());
     tracks_.push_back(std::move(track));
   }
   live_ = std::move(live);
   last_frame_ = frame;
   search_full_frame_ = unassigned_detection || ended_a_track;
+}
+
+// Incomplete: r < min_radius_of_track x median of the track's last radius_history complete
+// outline radii, once it has 3 of them (a median of fewer is one noisy radius); a detection
+// without an outline (too small for one: what is left of a marker mostly hidden) is
+// compared by the radius of its thresholded area. Tracks of small dots have no outline radii
+// and are never marked. A marker cut by an
+// edge keeps the radius of its visible arc's circle, but its blob shrinks, and a cut that
+// the detector's completeness measures pass (a share of the disc in shadow, whose outline
+// fits a smaller circle) shows here.
+TrackPoint Tracker::PointFor(Track* track, const Detection& d, int frame, double time_s) const {
+  TrackPoint p;
+  p.frame = frame;
+  p.time_s = time_s;
+  p.track = track->id;
+  p.x_px = d.center_px.x();
+  p.y_px = d.center_px.y();
+  p.quality = d.quality;
+  p.sigma_px = d.sigma_px;
+  std::vector<double>& radii = track->radii_px;
+  if (radii.size() >= 3) {
+    std::vector<double> sorted = radii;
+    const auto middle = sorted.begin() + sorted.size() / 2;
+    std::nth_element(sorted.begin(), middle, sorted.end());
+    if (d.radius_px < options_.min_radius_of_track * *middle) {
+      p.quality = 0.0;  // kept for continuity; the fit leaves it out
+      return p;
+    }
+  }
+  if (!d.outline_fitted) return p;  // a thresholded area's radius is no outline's
+  radii.push_back(d.radius_px);
+  if (static_cast<int>(radii.size()) > options_.radius_history) radii.erase(radii.begin());
+  return p;
 }
 
 int Tracker::live_tracks() const { return static_cast<int>(live_.size()); }

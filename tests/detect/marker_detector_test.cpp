@@ -465,7 +465,7 @@ TEST(DetectionBackground, EqualsOpenCvOpeningAndClosing) {
 }
 
 TEST(MarkerDetector, RefusesBadOptions) {
-  std::vector<DetectorOptions> bad(10);
+  std::vector<DetectorOptions> bad(15);
   bad[0].threshold = 0.0;
   bad[1].threshold = std::numeric_limits<double>::quiet_NaN();
   bad[2].threshold_sigma = -1.0;
@@ -476,6 +476,11 @@ TEST(MarkerDetector, RefusesBadOptions) {
   bad[7].background_radius_px = 1000;
   bad[8].min_area_px = std::numeric_limits<double>::infinity();
   bad[9].min_noise_sigma_levels = -0.5;
+  bad[10].min_outline_radius_px = 1.0;
+  bad[11].max_outline_elongation = 0.5;
+  bad[12].min_completeness = 1.2;
+  bad[13].incomplete_bias_of_radius = -0.1;
+  bad[14].min_outline_radius_px = std::numeric_limits<double>::quiet_NaN();
   for (std::size_t i = 0; i < bad.size(); ++i) {
     EXPECT_FALSE(bad[i].Validate().empty()) << i;
     EXPECT_THROW(MarkerDetector{bad[i]}, InputError) << i;

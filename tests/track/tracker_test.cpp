@@ -450,6 +450,42 @@ TEST(Tracker, ASecondDetectionExplainsOneOfTwoClaimants) {
   EXPECT_EQ(points[7].x_px, 4.0);
 }
 
+// A sphere of outline radius 6 px moving right; in frames 12-14 the body's outline hides
+// part of it: its fitted radius (outline-fitted) or its blob's (too small for an outline)
+// falls. Those points stay in the track, with quality 0; the radii around them do not
+// move the track's median.
+TEST(Tracker, DetectionsSmallerThanTheirTrackAreKeptWithQualityZero) {
+  Tracker tracker{TrackerOptions{}};
+  for (int f = 0; f < 20; ++f) {
+    Detection d = DetectionAt(Eigen::Vector2d(100.0 + 2.0 * f, 200.0));
+    d.outline_fitted = true;
+    d.radius_px = 6.0 + 0.1 * std::sin(f);  // the fit's scatter
+    d.sigma_px = 0.02;
+    if (f == 12) d.radius_px = 4.5;         // 0.75 of the median
+    if (f == 13) {                          // mostly hidden: its centroid
+      d.outline_fitted = false;
+      d.radius_px = 2.8;
+    }
+    if (f == 14) d.radius_px = 5.2;         // 0.87: kept
+    tracker.Add(f, f / 1000.0, {d});
+  }
+  const std::vector<TrackPoint> points = tracker.Finish();
+  ASSERT_EQ(points.size(), 20u);
+  for (const TrackPoint& p : points) {
+    EXPECT_EQ(p.track, 1);
+    EXPECT_EQ(p.quality == 0.0, p.frame == 12 || p.frame == 13) << p.frame;
+    EXPECT_EQ(p.sigma_px, 0.02);
+  }
+  // Without outline radii (small dots) nothing is marked, whatever the area.
+  Tracker dots{TrackerOptions{}};
+  for (int f = 0; f < 10; ++f) {
+    Detection d = DetectionAt(Eigen::Vector2d(100.0 + 2.0 * f, 200.0));
+    d.radius_px = f == 5 ? 0.5 : 2.0;
+    dots.Add(f, f / 1000.0, {d});
+  }
+  for (const TrackPoint& p : dots.Finish()) EXPECT_GT(p.quality, 0.0);
+}
+
 TEST(Tracker, BadOptionsAreRefused) {
   const auto refused = [](const std::function<void(TrackerOptions&)>& change) {
     TrackerOptions options;
@@ -464,6 +500,8 @@ TEST(Tracker, BadOptionsAreRefused) {
   refused([](TrackerOptions& o) { o.max_gap_frames = -1; });
   refused([](TrackerOptions& o) { o.min_track_points = 0; });
   refused([](TrackerOptions& o) { o.search_margin_px = -1.0; });
+  refused([](TrackerOptions& o) { o.min_radius_of_track = 1.5; });
+  refused([](TrackerOptions& o) { o.radius_history = 0; });
   EXPECT_TRUE(TrackerOptions{}.Validate().empty());
 }
 

@@ -1,9 +1,34 @@
-// Marker detection: bright dots (retro-reflective or painted) on a darker object, or dark
-// dots on a light one. A local background estimate is removed, the residue thresholded,
-// connected components measured, and each accepted blob's centre taken as the
-// intensity-weighted centroid of its background-subtracted pixels, less a pedestal of a
-// tenth of its peak. A blob must rise above all of its surroundings: the corners of the
-// body's silhouette, which the opening also cuts off, do not.
+// Marker detection: bright dots or spheres (retro-reflective or painted) on a darker object,
+// or dark dots on a light one. A local background estimate is removed, the residue
+// thresholded and connected components measured. A blob must rise above all of its
+// surroundings: the corners of the body's silhouette, which the opening also cuts off, do
+// not.
+//
+// The centre. Of a blob of `min_outline_radius_px` or more (the radius of the uniform disc
+// of the same second moments) and elongation up to `max_outline_elongation`, the centre of
+// its outline (CentreMethod::kOutline): sub-pixel points where the residue falls fastest
+// along 64 rays from the centroid, and a robust fit of a circle (and, when the points go
+// round the blob, an ellipse) to them, weighted by the edge's steepness, outliers trimmed.
+// The brightness inside (the shading of a sphere lit from one side, a specular highlight)
+// does not enter, where it pulls an intensity-weighted centroid towards the light. The
+// outline of a sphere of radius R at distance Z, seen at angle a off the optical axis of a
+// pinhole camera of focal length f (px), is an ellipse whose centre lies farther out than
+// the projected centre by
+//   e = f sin 2a / (cos 2a + cos 2b) - f tan a  ~=  d b^2 / cos^2 a,   sin b = R / Z,
+// d = f tan a the distance from the principal point (the tangent cone's rim meets the image
+// plane at f tan(a -+ b); from memory): with the outline's radius r ~= f b, e ~= d (r / f)^2
+// / cos^2 a, 0.0035 px for r = 3 px and 0.025 px for r = 8 px at d = 640 px, f = 1400 px
+// (a 1024 x 768 frame's corner). A tilted flat disc's is of the same order. Smaller blobs
+// (and CentreMethod::kCentroid) take the intensity-weighted centroid of their
+// background-subtracted pixels, less a pedestal of a tenth of the peak: an outline of a few
+// pixels cannot be fitted, and a flat dot's centroid is unbiased.
+//
+// Completeness. A fitted outline carries measures of how much of a whole marker the blob is
+// (the share of rays with outline points, the share of the outline's inside that the blob
+// fills, its symmetry about the centre) and their minimum, `completeness`. A blob cut by the
+// body's outline or lying half in shadow fills only part of the disc its visible outline
+// predicts; below `min_completeness` it is dropped, and below 1 its `sigma_px` grows with
+// the missing share.
 #pragma once
 
 #include <Eigen/Core>
@@ -20,7 +45,21 @@ struct Detection {
   double signal = 0.0;            // summed background-subtracted intensity, grey levels
   double peak = 0.0;              // largest background-subtracted value, grey levels
   double elongation = 1.0;        // ratio of the blob's principal standard deviations, >= 1
-  double quality = 0.0;           // 0..1: signal-to-noise and roundness
+  double quality = 0.0;           // 0..1: signal-to-noise, roundness and completeness
+  double radius_px = 0.0;         // the fitted outline's equal-area radius; without an outline
+                                  // fit, sqrt(area_px / pi)
+  bool outline_fitted = false;    // the centre is the outline's (else the centroid)
+  double outline_rms_px = 0.0;    // rms distance of the outline points from the fit (0: none)
+  double coverage = 1.0;          // share of rays with an outline point (1: not measured)
+  double fill = 1.0;              // share of the outline's inside in the blob (1: not measured)
+  double symmetry = 1.0;          // share of the blob mirrored onto itself (1: not measured)
+  double completeness = 1.0;      // min(coverage, fill, symmetry); 1 when not measured
+  double sigma_px = 0.0;          // 1-sigma of the centre (each axis), px
+};
+
+enum class CentreMethod {
+  kOutline,   // the centre of the fitted outline (blobs large enough; else the centroid)
+  kCentroid,  // the intensity-weighted centroid less a pedestal, for every blob
 };
 
 struct DetectorOptions {
@@ -39,6 +78,13 @@ struct DetectorOptions {
                                       // (diameter up to 2r), narrower than the body's parts
                                       // (width above 2r + 1), whose residue would swallow
                                       // the dots on them
+  CentreMethod centre = CentreMethod::kOutline;  // how a blob's centre is found
+  double min_outline_radius_px = 3.0;  // smaller blobs (radius of the disc of equal second
+                                      // moments) take the centroid
+  double max_outline_elongation = 2.0;  // longer blobs (motion streaks) take the centroid, their
+                                      // exposure's mean position
+  double min_completeness = 0.6;      // fitted blobs less complete than this are dropped
+  double incomplete_bias_of_radius = 0.25;  // sigma_px grows by this x (1 - completeness) x r
 
   std::string Validate() const;       // empty when valid
 };
@@ -81,6 +127,8 @@ class MarkerDetector {
     std::vector<cv::Point> blob;
     std::vector<unsigned char> near_blob;
     std::vector<float> noise_samples;
+    cv::Mat gradient_x;  // the residue's gradient around a blob (outline fit)
+    cv::Mat gradient_y;
   };
   WorkSpace work_;
 };

@@ -6,7 +6,10 @@
 // missing for up to `max_gap_frames` frames is bridged; two tracks competing for one
 // detection (dots that merge) or one track with two candidates of similar distance
 // (a glint beside a dot) skip the frame rather than join wrongly, and end when the miss
-// run exceeds `max_gap_frames`.
+// run exceeds `max_gap_frames`. A detection whose fitted outline is much smaller than its
+// track's recent ones (a running median of their radii) is part of a marker (cut by the
+// body's outline, half in shadow): the track keeps it for continuity with quality 0, which
+// tells the fit to leave it out.
 #pragma once
 
 #include <Eigen/Core>
@@ -27,6 +30,9 @@ struct TrackerOptions {
   int max_gap_frames = 5;            // frames a track may miss and still continue
   int min_track_points = 8;          // shorter tracks are dropped at the end (glints)
   double search_margin_px = 12.0;    // half-size margin of the search regions around predictions
+  double min_radius_of_track = 0.8;  // an outline radius below this share of the track's
+                                     // running median marks a detection incomplete
+  int radius_history = 15;           // points of that running median (outline-fitted ones)
 
   std::string Validate() const;      // empty when valid
 };
@@ -59,6 +65,7 @@ class Tracker {
     std::vector<TrackPoint> points;  // in frame order; `track` holds `id` until Finish()
     bool ended = false;              // ended tracks never revive
     bool merging = false;            // bridging a merge with another dot since its last point
+    std::vector<double> radii_px;    // outline radii of its last complete fitted detections
   };
   // Position expected at `frame` from the track's last points (frame number as time).
   Eigen::Vector2d Predict(const Track& track, int frame) const;
@@ -66,6 +73,9 @@ class Tracker {
   int Missed(const Track& track, int frame) const;
   // gate_px * (1 + 0.5 * Missed): the gate widens while a track is bridged.
   double Gate(const Track& track, int frame) const;
+  // The track's point for detection `d`, and the running median of its radii updated:
+  // an outline-fitted detection well below that median gets quality 0.
+  TrackPoint PointFor(Track* track, const Detection& d, int frame, double time_s) const;
 
   TrackerOptions options_;
   std::vector<Track> tracks_;          // every track ever started, in creation order
