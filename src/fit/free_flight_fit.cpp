@@ -599,27 +599,28 @@ ModelFit ChooseRotationModel(const FitContext& ctx, const std::vector<BodyPose>&
 }
 
 // The automatic choice among the translation models (FitOptions::drag = kAuto), with the
-// rotation model already chosen and on its inliers: vacuum, quadratic drag (one more
-// parameter, k) and, for the constant-spin model, drag with Magnus lift (k_L) are fitted
-// and scored by the same BIC; the lowest wins. For a thrown body with no measurable drag
-// the penalty ln n per parameter (about 9 for 4000 residual components) keeps the vacuum
-// model unless k lowers the sum of squares by that many noise variances.
-ModelFit ChooseTranslationModel(const FitContext& ctx, const ModelFit& vacuum, FitResult* result) {
-  std::vector<ModelFit> fits = {vacuum};
-  FlightParameters start = vacuum.parameters;
-  start.translation_model = TranslationModel::kDrag;
+// rotation model already chosen (compared with k free, so that a strong drag is not taken
+// up by the rotation or set aside as outliers) and on its inliers: vacuum, quadratic drag
+// (one more parameter, k) and, for the constant-spin model, drag with Magnus lift (k_L) are
+// fitted and scored by the same BIC; the lowest wins. For a thrown body with no measurable
+// drag the penalty ln n per parameter (about 9 for 4000 residual components) keeps the
+// vacuum model unless k lowers the sum of squares by that many noise variances.
+ModelFit ChooseTranslationModel(const FitContext& ctx, const ModelFit& drag, FitResult* result) {
+  FlightParameters start = drag.parameters;
+  start.translation_model = TranslationModel::kVacuum;
   start.aero.setZero();
-  fits.push_back(FitModel(ctx, vacuum.model, start, vacuum.use, false, Precision::kComparison));
+  std::vector<ModelFit> fits = {
+      FitModel(ctx, drag.model, start, drag.use, false, Precision::kComparison), drag};
   std::string lift_note;
-  if (vacuum.model == RotationModel::kConstantSpin) {
-    FlightParameters lift = fits.back().parameters;
+  if (drag.model == RotationModel::kConstantSpin) {
+    FlightParameters lift = drag.parameters;
     lift.translation_model = TranslationModel::kDragLift;
     lift.aero[1] = 0.0;
-    fits.push_back(FitModel(ctx, vacuum.model, lift, vacuum.use, false, Precision::kComparison));
+    fits.push_back(FitModel(ctx, drag.model, lift, drag.use, false, Precision::kComparison));
   } else {
     lift_note = "; drag with lift not tried: the lift model needs a constant spin axis";
   }
-  const int n = 2 * static_cast<int>(std::count(vacuum.use.begin(), vacuum.use.end(), true));
+  const int n = 2 * static_cast<int>(std::count(drag.use.begin(), drag.use.end(), true));
   size_t best = 0;
   for (size_t m = 0; m < fits.size(); ++m) {
     FitResult::TranslationTrial trial;
@@ -627,7 +628,7 @@ ModelFit ChooseTranslationModel(const FitContext& ctx, const ModelFit& vacuum, F
     trial.parameters = fits[m].parameter_count;
     trial.sum_sq_px2 = fits[m].sum_sq_px2;
     trial.bic = Bic(fits[m].sum_sq_px2, n, fits[m].parameter_count);
-    trial.converged = m == 0 || fits[m].summary.termination_type == ceres::CONVERGENCE;
+    trial.converged = fits[m].summary.termination_type == ceres::CONVERGENCE;
     result->translation_trials.push_back(trial);
     if (trial.bic < result->translation_trials[best].bic) best = m;
   }
@@ -776,10 +777,13 @@ FitResult FitFreeFlight(const std::vector<FrameSightings>& frames, const Body& b
   FlightParameters initial = InitialiseFlight(poses, t0_s, options);
   initial.max_step_angle_rad = options.max_step_angle_rad;
   initial.wind_world_mps = options.wind_world_mps;
+  // With the automatic choice the rotation models are compared with quadratic drag (k
+  // free, from 0): a vacuum path would leave a strong drag's deceleration to the rotation
+  // and to the outlier step, and the translation choice is made on the inliers found here.
   switch (options.drag) {
+    case DragChoice::kAuto:
     case DragChoice::kQuadratic: initial.translation_model = TranslationModel::kDrag; break;
     case DragChoice::kQuadraticLift: initial.translation_model = TranslationModel::kDragLift; break;
-    case DragChoice::kAuto:
     case DragChoice::kNone: initial.translation_model = TranslationModel::kVacuum; break;
   }
   initial.time_offsets_s.resize(cameras.size());

@@ -43,6 +43,58 @@ int MostDistinctAxis(const Eigen::Vector3d& ascending) {
   return (ascending[1] - ascending[0] < ascending[2] - ascending[1]) ? 2 : 0;
 }
 
+// The inertia tensor J (up to scale) and the world angular momentum L from the conditions
+// R_k J w_k = L of the turns between neighbouring poses (conservation of angular momentum):
+// the null vector of the stacked system, with the singular values and each pair's residual.
+struct InertiaFromTurns {
+  Eigen::VectorXd null_vector;      // J11 J22 J33 J12 J13 J23 L1 L2 L3
+  Eigen::VectorXd singular_values;  // of the column-scaled system, descending
+  std::vector<double> pair_residuals;
+};
+
+InertiaFromTurns SolveInertiaFromTurns(const std::vector<Eigen::Matrix3d>& mid_rotation,
+                                       const std::vector<Eigen::Vector3d>& mid_omega_body) {
+  Eigen::MatrixXd a(3 * mid_rotation.size(), 9);
+  for (size_t k = 0; k < mid_rotation.size(); ++k) {
+    const Eigen::Vector3d& w = mid_omega_body[k];
+    Eigen::Matrix<double, 3, 6> jw;  // J w as a linear map of J's six entries
+    jw << w.x(), 0, 0, w.y(), w.z(), 0,
+          0, w.y(), 0, w.x(), 0, w.z(),
+          0, 0, w.z(), 0, w.x(), w.y();
+    a.block<3, 6>(3 * k, 0) = mid_rotation[k] * jw;
+    a.block<3, 3>(3 * k, 6) = -Eigen::Matrix3d::Identity();
+  }
+  // Columns scaled alike so that the null vector does not favour one unknown.
+  const Eigen::VectorXd scale = a.colwise().norm().cwiseMax(1e-300);
+  const Eigen::MatrixXd as = a * scale.cwiseInverse().asDiagonal();
+  Eigen::JacobiSVD<Eigen::MatrixXd> svd(as, Eigen::ComputeFullV);
+  InertiaFromTurns out;
+  out.singular_values = svd.singularValues();
+  const Eigen::VectorXd v = svd.matrixV().col(8);
+  out.null_vector = v.cwiseQuotient(scale);
+  for (size_t k = 0; k < mid_rotation.size(); ++k) {
+    out.pair_residuals.push_back((as.middleRows(3 * k, 3) * v).norm());
+  }
+  return out;
+}
+
+// The orientation and angular velocity at t0 from the pose nearest t0 and the momentum:
+// w = R J^-1 R^T L (L = R J w_body, world; J and L up to one common scale), and the pose
+// carried to t0 by that angular velocity. A tumbling body's angular velocity in the world
+// changes over the flight, so the constant-spin start (a median over the whole flight) can
+// be far from it at t0; this start is local to t0.
+void StartFromMomentum(const std::vector<BodyPose>& poses, const Eigen::Matrix3d& j,
+                       const Eigen::Vector3d& l, FlightParameters* p) {
+  const BodyPose* nearest = &poses.front();
+  for (const BodyPose& pose : poses) {
+    if (std::abs(pose.time_s - p->t0_s) < std::abs(nearest->time_s - p->t0_s)) nearest = &pose;
+  }
+  const Eigen::Matrix3d& r = nearest->world_from_body;
+  const Eigen::Vector3d w = r * j.inverse() * r.transpose() * l;
+  p->omega_world_radps = w;
+  p->q0_wxyz = Wxyz(Eigen::Quaterniond(ExpRotation(w * (p->t0_s - nearest->time_s)) * r).normalized());
+}
+
 // Orientation of the model at one pose against the pose's: the rotation vector of
 // q_pose* (x) q_model (small-angle form 2 vec, the sign chosen for w >= 0), radians.
 class PoseOrientationCost {
@@ -172,23 +224,25 @@ FlightParameters InitialiseTorqueFree(const std::vector<BodyPose>& poses,
     }
     bool determined = false;
     if (mid_rotation.size() >= 6) {
-      // Unknowns: J11 J22 J33 J12 J13 J23 L1 L2 L3.
-      Eigen::MatrixXd a(3 * mid_rotation.size(), 9);
+      InertiaFromTurns estimate = SolveInertiaFromTurns(mid_rotation, mid_omega_body);
+      // Again without the pairs far off that solution (a PnP pose flipped to the mirror
+      // solution of a flat layout gives two such pairs): beyond 5 times the median
+      // residual (common practice for a robust cut).
+      std::vector<double> sorted = estimate.pair_residuals;
+      std::nth_element(sorted.begin(), sorted.begin() + sorted.size() / 2, sorted.end());
+      const double cut = 5.0 * sorted[sorted.size() / 2];
+      std::vector<Eigen::Matrix3d> kept_rotation;
+      std::vector<Eigen::Vector3d> kept_omega;
       for (size_t k = 0; k < mid_rotation.size(); ++k) {
-        const Eigen::Vector3d& w = mid_omega_body[k];
-        Eigen::Matrix<double, 3, 6> jw;  // J w as a linear map of J's six entries
-        jw << w.x(), 0, 0, w.y(), w.z(), 0,
-              0, w.y(), 0, w.x(), 0, w.z(),
-              0, 0, w.z(), 0, w.x(), w.y();
-        a.block<3, 6>(3 * k, 0) = mid_rotation[k] * jw;
-        a.block<3, 3>(3 * k, 6) = -Eigen::Matrix3d::Identity();
+        if (estimate.pair_residuals[k] > cut) continue;
+        kept_rotation.push_back(mid_rotation[k]);
+        kept_omega.push_back(mid_omega_body[k]);
       }
-      // Columns scaled alike so that the null vector does not favour one unknown.
-      const Eigen::VectorXd scale = a.colwise().norm().cwiseMax(1e-300);
-      const Eigen::MatrixXd as = a * scale.cwiseInverse().asDiagonal();
-      Eigen::JacobiSVD<Eigen::MatrixXd> svd(as, Eigen::ComputeFullV);
-      const Eigen::VectorXd sv = svd.singularValues();
-      Eigen::VectorXd x = svd.matrixV().col(8).cwiseQuotient(scale);
+      if (kept_rotation.size() >= 6 && kept_rotation.size() < mid_rotation.size()) {
+        estimate = SolveInertiaFromTurns(kept_rotation, kept_omega);
+      }
+      const Eigen::VectorXd& sv = estimate.singular_values;
+      const Eigen::VectorXd& x = estimate.null_vector;
       // Determined when the null space is one-dimensional by a clear margin.
       if (sv[7] > 10.0 * sv[8]) {
         Eigen::Matrix3d j;
@@ -202,6 +256,8 @@ FlightParameters InitialiseTorqueFree(const std::vector<BodyPose>& poses,
                                                              : 2,
                        &p);
           if (model == RotationModel::kSymmetricTop) p.moments_sd[1] = 0.0;
+          const Eigen::Vector3d l = (x[0] + x[1] + x[2] < 0 ? -1.0 : 1.0) * x.tail<3>();
+          StartFromMomentum(poses, j, l, &p);
           determined = true;
         }
       }

@@ -5,6 +5,7 @@
 
 #include "support/air_scenarios.hpp"
 #include "support/fit_helpers.hpp"
+#include "support/paddle_checks.hpp"
 #include "tumbletrace/fit/window.hpp"
 
 namespace tumbletrace {
@@ -73,6 +74,36 @@ TEST(AeroCoverage, WindowWithinTwoFramesAcrossSeeds) {
   std::printf("hand and net, %d seeds: window within 2 frames of the truth at both ends %d times\n",
               trials, within);
   EXPECT_GE(within, 0.95 * trials);
+}
+
+}  // namespace
+}  // namespace tumbletrace
+
+namespace tumbletrace {
+namespace {
+
+// The strong-drag tumbling paddle over 50 seeds: rms within 1.2 times the noise, the CM
+// within 3 sigma (each component), k within 3 %. With three components at 3 sigma, about
+// one seed in a hundred is expected outside by chance; 48 of 50 are required.
+TEST(AeroCoverage, StrongDragPaddleOverFiftySeeds) {
+  int within = 0, rms_ok = 0, cm_ok = 0, k_ok = 0;
+  double worst_rms = 0.0, worst_k = 0.0;
+  const int seeds = 50;
+  for (int seed = 1; seed <= seeds; ++seed) {
+    const testing::PaddleOutcome o = testing::FitFoamPaddle(2000 + seed);
+    within += testing::WithinPaddleBounds(o);
+    rms_ok += o.rms_over_noise < 1.2;
+    cm_ok += o.cm_worst_sigmas < 3.0;
+    k_ok += std::abs(o.k_relative_error) < 0.03;
+    worst_rms = std::max(worst_rms, o.rms_over_noise);
+    worst_k = std::max(worst_k, std::abs(o.k_relative_error));
+  }
+  std::printf("strong-drag paddle over %d seeds: all bounds %d, rms < 1.2 noise %d (worst %.3f), "
+              "CM within 3 sigma %d, k within 3 %% %d (worst %.2f %%)\n",
+              seeds, within, rms_ok, worst_rms, cm_ok, k_ok, 100 * worst_k);
+  EXPECT_GE(within, 48);
+  EXPECT_EQ(rms_ok, seeds);
+  EXPECT_EQ(k_ok, seeds);
 }
 
 }  // namespace
