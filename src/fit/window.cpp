@@ -18,6 +18,8 @@ namespace {
 // marker's lever from the CM, world frame): a small shift dp and turn dtheta of the body
 // move the marker's pixel by G [dp; dtheta].
 struct Seen {
+  int camera = 0;
+  int marker_id = 0;
   double time_s = 0.0;
   Eigen::Vector2d e = Eigen::Vector2d::Zero();
   Eigen::Matrix<double, 2, 6> g = Eigen::Matrix<double, 2, 6>::Zero();
@@ -42,6 +44,8 @@ SeenByFrame Predict(const FlightParameters& p, const std::vector<FrameSightings>
       const Marker* m = body.FindMarker(s.marker_id);
       if (m == nullptr) continue;
       Seen seen;
+      seen.camera = f.camera;
+      seen.marker_id = s.marker_id;
       seen.time_s = times[i];
       const Eigen::Vector3d lever = rotations[i] * (m->at_body_m - p.cm_body_m);
       const Eigen::Vector3d x = positions[i] + lever;
@@ -112,6 +116,60 @@ double DeviationChi2(const std::vector<const Seen*>& seen, double t_break_s, dou
     chi2 += std::min((seen[i]->e - rows[i] * theta).squaredNorm() / (sigma_px * sigma_px), cap);
   }
   return chi2;
+}
+
+// Whether a chunk's misfit is a departure of the body (a rigid-body event seen across the
+// markers) rather than one marker's local bias (a marker partly hidden or shadowed, a
+// shading error of its centre). The chunk's sightings are whitened by their marker's own
+// noise level from the fit's noise model (fit/noise_model.hpp; the pooled level for a
+// marker it does not know), and the gain of the rigid deviation D(tau) = V tau + A tau^2/2
+// from the chunk's inner edge (DeviationChi2) is
+//   G = min over markers m of [chi2(e without m) - chi2(e - X theta without m)],
+// capped per sighting: what persists whichever one marker is left out. Residuals
+// correlated in time carry fewer independent samples: G is divided by the AR(1) variance
+// factor (1 + rho) / (1 - rho) of the fit's pooled lag-1 correlation (rho in [0, 0.95]).
+// A departure: G above `options.rigid_departure_chi2`.
+bool IsRigidDeparture(const std::vector<const Seen*>& chunk, double t_edge_s, const FitResult& fit,
+                      const WindowSearchOptions& options) {
+  std::map<std::pair<int, int>, std::pair<double, int>> variance_of;  // (camera, marker)
+  for (const SeriesNoise& series : fit.noise.series) {
+    auto& [sum, count] = variance_of[{series.camera, series.marker_id}];
+    sum += series.variance_px2;
+    ++count;
+  }
+  const double pooled = std::max(fit.noise.pooled_variance_px2, 1e-12);
+  std::vector<Seen> whitened;
+  whitened.reserve(chunk.size());
+  std::vector<int> markers;
+  for (const Seen* s : chunk) {
+    const auto it = variance_of.find({s->camera, s->marker_id});
+    const double variance =
+        it == variance_of.end() ? pooled : std::max(it->second.first / it->second.second, 1e-12);
+    Seen w = *s;
+    w.e /= std::sqrt(variance);
+    w.g /= std::sqrt(variance);
+    whitened.push_back(w);
+    if (std::find(markers.begin(), markers.end(), s->marker_id) == markers.end()) {
+      markers.push_back(s->marker_id);
+    }
+  }
+  const auto gain_without = [&](int left_out) {
+    std::vector<const Seen*> kept;
+    double null_chi2 = 0.0;
+    for (const Seen& w : whitened) {
+      if (w.marker_id == left_out) continue;
+      kept.push_back(&w);
+      null_chi2 += std::min(w.e.squaredNorm(), options.capped_chi2);
+    }
+    if (kept.size() < 4) return 0.0;
+    return null_chi2 - DeviationChi2(kept, t_edge_s, 1.0, options.capped_chi2, true);
+  };
+  double gain = gain_without(-1);
+  if (markers.size() >= 3) {
+    for (int m : markers) gain = std::min(gain, gain_without(m));
+  }
+  const double rho = std::clamp(fit.noise.pooled_rho, 0.0, 0.95);
+  return gain * (1.0 - rho) / (1.0 + rho) > options.rigid_departure_chi2;
 }
 
 FitResult FitRange(const std::vector<FrameSightings>& frames, const Body& body,
@@ -275,8 +333,24 @@ FreeFlightWindow FindFreeFlightWindow(const std::vector<FrameSightings>& frames,
       WindowEnd& end = at_end ? window.end : window.start;
       const double variance_ratio = components > 0 ? chi2 / components : 1.0;
       const double excess_px = trial.sigma_px * (std::sqrt(variance_ratio) - 1.0);
-      if (z <= options.refuse_sigma || variance_ratio <= options.refuse_variance_ratio ||
-          excess_px <= options.refuse_excess_px) {
+      bool take = z <= options.refuse_sigma || variance_ratio <= options.refuse_variance_ratio ||
+                  excess_px <= options.refuse_excess_px;
+      if (!take) {
+        std::vector<const Seen*> chunk_seen;
+        for (int i = from; i <= to; ++i) {
+          const auto it = seen.find(frame_numbers[i]);
+          if (it == seen.end()) continue;
+          for (const Seen& s : it->second) {
+            if (s.valid) chunk_seen.push_back(&s);
+          }
+        }
+        const int inner = at_end ? hi : lo;
+        const int outer = at_end ? hi + 1 : lo - 1;
+        const double t_edge_s =
+            0.5 * (time_of.at(frame_numbers[inner]) + time_of.at(frame_numbers[outer]));
+        take = !IsRigidDeparture(chunk_seen, t_edge_s, trial, options);
+      }
+      if (take) {
         lo = new_lo;
         hi = new_hi;
         model = std::move(trial);
