@@ -630,7 +630,13 @@ ModelFit ChooseTranslationModel(const FitContext& ctx, const ModelFit& drag, Fit
     trial.bic = Bic(fits[m].sum_sq_px2, n, fits[m].parameter_count);
     trial.converged = fits[m].summary.termination_type == ceres::CONVERGENCE;
     result->translation_trials.push_back(trial);
-    if (trial.bic < result->translation_trials[best].bic) best = m;
+    // A trial that did not converge is no minimum, and its sum of squares no score: the
+    // lowest BIC among the converged ones wins (among all, when none converged).
+    const FitResult::TranslationTrial& leader = result->translation_trials[best];
+    if ((trial.converged && !leader.converged) ||
+        (trial.converged == leader.converged && trial.bic < leader.bic)) {
+      best = m;
+    }
   }
   // In words: "vacuum", "quadratic drag", "quadratic drag with lift".
   const auto prose = [](TranslationModel model) {

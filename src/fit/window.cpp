@@ -118,60 +118,6 @@ double DeviationChi2(const std::vector<const Seen*>& seen, double t_break_s, dou
   return chi2;
 }
 
-// Whether a chunk's misfit is a departure of the body (a rigid-body event seen across the
-// markers) rather than one marker's local bias (a marker partly hidden or shadowed, a
-// shading error of its centre). The chunk's sightings are whitened by their marker's own
-// noise level from the fit's noise model (fit/noise_model.hpp; the pooled level for a
-// marker it does not know), and the gain of the rigid deviation D(tau) = V tau + A tau^2/2
-// from the chunk's inner edge (DeviationChi2) is
-//   G = min over markers m of [chi2(e without m) - chi2(e - X theta without m)],
-// capped per sighting: what persists whichever one marker is left out. Residuals
-// correlated in time carry fewer independent samples: G is divided by the AR(1) variance
-// factor (1 + rho) / (1 - rho) of the fit's pooled lag-1 correlation (rho in [0, 0.95]).
-// A departure: G above `options.rigid_departure_chi2`.
-bool IsRigidDeparture(const std::vector<const Seen*>& chunk, double t_edge_s, const FitResult& fit,
-                      const WindowSearchOptions& options) {
-  std::map<std::pair<int, int>, std::pair<double, int>> variance_of;  // (camera, marker)
-  for (const SeriesNoise& series : fit.noise.series) {
-    auto& [sum, count] = variance_of[{series.camera, series.marker_id}];
-    sum += series.variance_px2;
-    ++count;
-  }
-  const double pooled = std::max(fit.noise.pooled_variance_px2, 1e-12);
-  std::vector<Seen> whitened;
-  whitened.reserve(chunk.size());
-  std::vector<int> markers;
-  for (const Seen* s : chunk) {
-    const auto it = variance_of.find({s->camera, s->marker_id});
-    const double variance =
-        it == variance_of.end() ? pooled : std::max(it->second.first / it->second.second, 1e-12);
-    Seen w = *s;
-    w.e /= std::sqrt(variance);
-    w.g /= std::sqrt(variance);
-    whitened.push_back(w);
-    if (std::find(markers.begin(), markers.end(), s->marker_id) == markers.end()) {
-      markers.push_back(s->marker_id);
-    }
-  }
-  const auto gain_without = [&](int left_out) {
-    std::vector<const Seen*> kept;
-    double null_chi2 = 0.0;
-    for (const Seen& w : whitened) {
-      if (w.marker_id == left_out) continue;
-      kept.push_back(&w);
-      null_chi2 += std::min(w.e.squaredNorm(), options.capped_chi2);
-    }
-    if (kept.size() < 4) return 0.0;
-    return null_chi2 - DeviationChi2(kept, t_edge_s, 1.0, options.capped_chi2, true);
-  };
-  double gain = gain_without(-1);
-  if (markers.size() >= 3) {
-    for (int m : markers) gain = std::min(gain, gain_without(m));
-  }
-  const double rho = std::clamp(fit.noise.pooled_rho, 0.0, 0.95);
-  return gain * (1.0 - rho) / (1.0 + rho) > options.rigid_departure_chi2;
-}
-
 FitResult FitRange(const std::vector<FrameSightings>& frames, const Body& body,
                    const std::vector<Camera>& cameras, FitOptions options, int first, int last) {
   options.first_frame = first;
@@ -286,7 +232,8 @@ FreeFlightWindow FindFreeFlightWindow(const std::vector<FrameSightings>& frames,
       fmt::format("{:.1f}", options.refuse_variance_ratio) +
       " times the noise variance or its rms within " +
       fmt::format("{:.2f}", options.refuse_excess_px) +
-      " px of the noise; each refused end located by a change-point "
+      " px of the noise (with, or else without, the one marker that carries most of it: a "
+      "departure of the body is seen across the markers); each refused end located by a change-point "
       "scan (the model before the break, a rigid deviation after it; 68 % profile-likelihood "
       "interval)";
 
@@ -319,37 +266,52 @@ FreeFlightWindow FindFreeFlightWindow(const std::vector<FrameSightings>& frames,
       FitResult trial = FitRange(frames, body, cameras, grow, frame_numbers[new_lo],
                                  frame_numbers[new_hi]);
       ++window.fits;
+      // Judged against the noise of the window accepted so far: a trial fit that the chunk
+      // broke (an impact inside it) inflates its own noise estimate until the chunk looks
+      // normal against it.
+      const FitResult& reference = model;
       const SeenByFrame seen = Predict(trial.parameters, frames, body, cameras);
+      // The chunk's capped chi-square, in all and per marker.
       double chi2 = 0.0;
       int components = 0;
+      std::map<std::pair<int, int>, std::pair<double, int>> of_marker;  // (camera, marker)
       for (int i = from; i <= to; ++i) {
         const auto it = seen.find(frame_numbers[i]);
         if (it == seen.end()) continue;
-        const auto [c, k] = FrameChi2(it->second, trial.sigma_px, options.capped_chi2);
-        chi2 += c;
-        components += k;
+        for (const Seen& s : it->second) {
+          if (!s.valid) continue;
+          const double c = std::min(s.e.squaredNorm() / (reference.sigma_px * reference.sigma_px),
+                                    options.capped_chi2);
+          chi2 += c;
+          components += 2;
+          auto& [marker_chi2, marker_components] = of_marker[{s.camera, s.marker_id}];
+          marker_chi2 += c;
+          marker_components += 2;
+        }
+      }
+      // Taken when it fits as free flight: its chi-square within `refuse_sigma` standard
+      // deviations of expectation, or its mean within `refuse_variance_ratio` of the noise
+      // variance, or its rms within `refuse_excess_px` of the noise.
+      const auto fits_free_flight = [&](double c, int k) {
+        if (k <= 0) return true;
+        const double z = (c - k) / std::sqrt(2.0 * k);
+        const double ratio = c / k;
+        const double excess_px = reference.sigma_px * (std::sqrt(ratio) - 1.0);
+        return z <= options.refuse_sigma || ratio <= options.refuse_variance_ratio ||
+               excess_px <= options.refuse_excess_px;
+      };
+      // A departure of the body is seen across the markers: a chunk whose misfit one marker
+      // carries (partly hidden or shadowed there, its centre biased) is taken when it fits
+      // without that marker, whose sightings the fit's outlier test then judges.
+      bool take = fits_free_flight(chi2, components);
+      if (!take && of_marker.size() >= 3) {
+        const auto worst = std::max_element(of_marker.begin(), of_marker.end(), [](const auto& a, const auto& b) {
+          return a.second.first < b.second.first;
+        });
+        take = fits_free_flight(chi2 - worst->second.first, components - worst->second.second);
       }
       const double z = components > 0 ? (chi2 - components) / std::sqrt(2.0 * components) : 0.0;
       WindowEnd& end = at_end ? window.end : window.start;
-      const double variance_ratio = components > 0 ? chi2 / components : 1.0;
-      const double excess_px = trial.sigma_px * (std::sqrt(variance_ratio) - 1.0);
-      bool take = z <= options.refuse_sigma || variance_ratio <= options.refuse_variance_ratio ||
-                  excess_px <= options.refuse_excess_px;
-      if (!take) {
-        std::vector<const Seen*> chunk_seen;
-        for (int i = from; i <= to; ++i) {
-          const auto it = seen.find(frame_numbers[i]);
-          if (it == seen.end()) continue;
-          for (const Seen& s : it->second) {
-            if (s.valid) chunk_seen.push_back(&s);
-          }
-        }
-        const int inner = at_end ? hi : lo;
-        const int outer = at_end ? hi + 1 : lo - 1;
-        const double t_edge_s =
-            0.5 * (time_of.at(frame_numbers[inner]) + time_of.at(frame_numbers[outer]));
-        take = !IsRigidDeparture(chunk_seen, t_edge_s, trial, options);
-      }
       if (take) {
         lo = new_lo;
         hi = new_hi;

@@ -61,12 +61,6 @@ struct WindowSearchOptions {
   // (0.05 px noise, 0.065 px rms over the first frames: a "release" that was not there).
   double refuse_excess_px = 0.05;
   double capped_chi2 = 25.0;      // per sighting, in noise units
-  // A chunk refused by the tests above is still taken unless its misfit is a departure of
-  // the body: the rigid deviation (12 parameters) must lower its chi-square (each marker's
-  // own noise, capped per sighting) by more than this, with any one marker left out, after
-  // dividing by the AR(1) variance factor (1 + rho) / (1 - rho) of the residuals' time
-  // correlation. 32.91: the 0.999 quantile of chi-square with 12 degrees of freedom.
-  double rigid_departure_chi2 = 32.91;
   int scan_inside_frames = 10;    // frames inside the grown window the scan reconsiders
   int scan_outside_frames = 15;   // frames beyond it
   int min_outside_frames = 4;     // the deviation's frames at the least
