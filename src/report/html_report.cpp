@@ -486,11 +486,14 @@ std::string ResidualsPerMarkerPlot(const ReportData& data) {
   plot.SetId("resmarker");
   PlotSeries rms{"rms", {}, {}, "#1f5fa8", SeriesStyle::kBars, 7.0};
   PlotSeries max{"largest", {}, {}, "#c0392b", SeriesStyle::kCrosses, 4.0};
+  // A value results.json could not hold as a number (an infinite residual is written as
+  // null) is left out of the plot.
   for (const json& m : *markers) {
-    rms.x.push_back(m.value("marker", 0));
-    rms.y.push_back(m.value("rms_px", 0.0));
-    max.x.push_back(m.value("marker", 0));
-    max.y.push_back(m.value("max_px", 0.0));
+    const double marker = Number(m, "marker").value_or(std::nan(""));
+    rms.x.push_back(marker);
+    rms.y.push_back(Number(m, "rms_px").value_or(std::nan("")));
+    max.x.push_back(marker);
+    max.y.push_back(Number(m, "max_px").value_or(std::nan("")));
   }
   plot.Add(rms);
   plot.Add(max);

@@ -241,6 +241,20 @@ TEST_F(HtmlReportTest, SightingsSetAsideOneMarkerAtATimeAskForCautionUnlessTheyA
   EXPECT_EQ(poor.level, Verdict::Level::kPoor);
 }
 
+// A marker's largest residual that results.json holds as null (an infinite residual, a
+// point the model put behind the camera) is left out of the plot; the page is still written.
+TEST_F(HtmlReportTest, NullLargestResidualOfAMarkerIsLeftOutOfThePlot) {
+  testing::TempDir odd("html_report_null_max");
+  for (const char* f : {"frames.csv", "residuals.csv"}) fs::copy_file(dir() / f, odd.path() / f);
+  json r = ReadJson(dir() / "results.json");
+  ASSERT_FALSE(r["diagnostics"]["per_marker"].empty());
+  r["diagnostics"]["per_marker"][0]["max_px"] = nullptr;
+  WriteJson(r, odd.path() / "results.json");
+  const std::string html = HtmlReport(ReadReportData(odd.path()));
+  EXPECT_NE(html.find("resmarker"), std::string::npos);
+  for (const char* bad : {"\"nan", "nan\"", " nan", "nan "}) EXPECT_EQ(html.find(bad), std::string::npos) << bad;
+}
+
 TEST_F(HtmlReportTest, FlagsOutsideTheFittedFramesMarkTheWindowAndDoNotMakeTheFitPoor) {
   testing::TempDir ends("html_report_ends");
   for (const char* f : {"frames.csv", "residuals.csv"}) fs::copy_file(dir() / f, ends.path() / f);
