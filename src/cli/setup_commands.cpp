@@ -18,7 +18,7 @@ namespace {
 
 bool ShowProgress(const CommonOptions& common) { return !common.quiet && isatty(fileno(stderr)); }
 
-// Outputs never overwrite an input (../shared/CONTRACT.md).
+// Outputs never overwrite an input (docs/files.md).
 void RefuseOverwrite(const std::filesystem::path& output, const std::filesystem::path& input) {
   std::error_code error;
   if (std::filesystem::exists(output) && std::filesystem::equivalent(output, input, error)) {

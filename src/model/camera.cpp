@@ -95,7 +95,7 @@ void ApplySensorWindow(const SensorWindow& window, Camera* camera) {
   camera->sensor_window = applied;
 }
 
-// camera.yaml: see ../shared/CONTRACT.md. With a sensor_window, image_size, cx and cy in
+// camera.yaml: see docs/files.md. With a sensor_window, image_size, cx and cy in
 // the file are those of the full-frame calibration; the window's offset is subtracted here
 // and its size becomes the image size, so that the intrinsics in memory describe the
 // recorded (cropped) image.

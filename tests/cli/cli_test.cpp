@@ -1,4 +1,4 @@
-// The command line end to end (../shared/CONTRACT.md): the real `tumbletrace` binary is run
+// The command line end to end (docs/files.md): the real `tumbletrace` binary is run
 // on files written by the test, and its exit code, output files and messages are checked.
 #include <gtest/gtest.h>
 #include <sys/wait.h>

@@ -1,6 +1,5 @@
 // Part formulas from the standard handbook tables (e.g. Gere, Mechanics of Materials,
-// appendix on mass moments of inertia; as listed in ../shared/REFERENCES.md, "Composite
-// bodies"): solid cylinder I_axis = m r^2 / 2, I_transverse = m (3 r^2 + h^2) / 12; box
+// appendix on mass moments of inertia, "Composite bodies"): solid cylinder I_axis = m r^2 / 2, I_transverse = m (3 r^2 + h^2) / 12; box
 // I_x = m (b^2 + c^2) / 12; solid sphere 2 m r^2 / 5.
 #include "tumbletrace/model/mass_properties.hpp"
 

@@ -24,8 +24,8 @@ std::string InputErrorOf(const std::function<void()>& action) {
   return "(no InputError thrown)";
 }
 
-// WGS 84 normal gravity on the ellipsoid, m/s^2 (NIMA TR8350.2, 3rd ed.; values as listed
-// in ../shared/REFERENCES.md).
+// WGS 84 normal gravity on the ellipsoid, m/s^2 (NIMA TR8350.2, 3rd ed., its
+// table of normal gravity).
 TEST(NormalGravityTest, Wgs84ValuesOnTheEllipsoid) {
   EXPECT_NEAR(NormalGravityWgs84(0.0, 0.0), 9.7803253359, 1e-9);
   EXPECT_NEAR(NormalGravityWgs84(45.0, 0.0), 9.8061977694, 1e-9);

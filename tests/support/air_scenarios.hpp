@@ -48,7 +48,7 @@ inline Body FoamBallBody() {
 // spinning at 4 rev/s about body x
 // (a principal axis, perpendicular to the weight's offset), through still air with a
 // smooth sphere's subcritical drag coefficient, C_d = 0.47 (Hoerner, Fluid-Dynamic Drag,
-// 1965 — from memory; ../shared/REFERENCES.md), at 1.2 kg/m^3: k = 0.0346 1/m.
+// 1965 — from memory), at 1.2 kg/m^3: k = 0.0346 1/m.
 inline Scenario FoamBallScenario(double tracks_sigma_px = 0.2, std::uint64_t seed = 1,
                                  bool with_drag = true) {
   Scenario s;

@@ -1,5 +1,5 @@
 // Outputs are written to a temporary name beside the target and renamed when complete, so
-// that a failed run never leaves a half-written file (../shared/CONTRACT.md).
+// that a failed run never leaves a half-written file (docs/files.md).
 #pragma once
 
 #include <filesystem>

@@ -1,5 +1,5 @@
 // Errors that reach the user, and the exit codes of the command line
-// (../shared/CONTRACT.md: 0 done, 1 internal error, 2 bad input, 3 data do not support a fit).
+// (README.md: 0 done, 1 internal error, 2 bad input, 3 data do not support a fit).
 #pragma once
 
 #include <stdexcept>

@@ -21,7 +21,7 @@ struct FrameSightings {
 };
 
 // Groups identified track points by camera and frame (ascending); unidentified points and
-// points of quality 0 (a marker seen in part, kept in its track for continuity) are skipped. The time of frame i of camera k is i / capture_fps[k] (../shared/CONTRACT.md),
+// points of quality 0 (a marker seen in part, kept in its track for continuity) are skipped. The time of frame i of camera k is i / capture_fps[k] (docs/files.md),
 // not the file's time_s. Throws InputError for a point of a camera not in the list.
 std::vector<FrameSightings> GroupByFrame(const std::vector<TrackPoint>& points,
                                          const std::vector<double>& capture_fps_per_camera);

@@ -54,7 +54,7 @@ struct Body {
   const Marker* FindMarker(int id) const;
 };
 
-// body.yaml (../shared/CONTRACT.md): `units: mm|m`, markers, references, parts.
+// body.yaml (docs/files.md): `units: mm|m`, markers, references, parts.
 // Throws InputError naming file and key (duplicate marker ids, unknown shapes, both or
 // neither of density and mass, non-positive sizes ...).
 Body ReadBodyYaml(const std::filesystem::path& path);

@@ -88,7 +88,7 @@ bool ProjectWorldPoint(const Camera& camera, const Eigen::Vector3d& p_world_m,
 // by Gauss-Newton on the forward model. Used by initialisation.
 Eigen::Vector2d UndistortToNormalised(const CameraIntrinsics& k, const Eigen::Vector2d& pixel);
 
-// camera.yaml (../shared/CONTRACT.md). Throws InputError naming file and key.
+// camera.yaml (docs/files.md). Throws InputError naming file and key.
 Camera ReadCameraYaml(const std::filesystem::path& path);
 // `comment` (may be empty): lines written first, each as a YAML comment ("# ...").
 void WriteCameraYaml(const Camera& camera, const std::filesystem::path& path,

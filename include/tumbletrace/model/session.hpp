@@ -1,5 +1,5 @@
 // session.yaml: one throw filmed by one camera, or by several synchronised ones
-// (../shared/CONTRACT.md; the list form in docs/files.md).
+// (docs/files.md, with its list form).
 #pragma once
 
 #include <Eigen/Core>

@@ -1,4 +1,4 @@
-// tracks.csv: one row per detection in a track (../shared/CONTRACT.md)
+// tracks.csv: one row per detection in a track (docs/files.md)
 //   frame,time_s,track,marker,x_px,y_px,quality[,camera]
 // `marker` is the body marker id, empty while unidentified. The optional last column
 // `camera` is the index of the camera in the session's list (0 when absent); track ids are

@@ -1,4 +1,4 @@
-// The result files of a fit (../shared/CONTRACT.md): results.json with the contract's keys,
+// The result files of a fit (docs/files.md): results.json with the contract's keys,
 // frames.csv (the fitted state per frame) and residuals.csv (per sighting), each written
 // atomically. Every column name carries its unit.
 #pragma once
