@@ -13,30 +13,13 @@
 #include <string>
 
 #include "frame_levels.hpp"
+#include "pixel_box.hpp"
 #include "tumbletrace/sim/lens_rays.hpp"
 
 namespace tumbletrace {
 namespace {
 
 constexpr int kTilePx = 8;
-
-// Pixels [x0, x1) x [y0, y1).
-struct PixelBox {
-  int x0 = 0;
-  int y0 = 0;
-  int x1 = 0;
-  int y1 = 0;
-
-  bool Empty() const { return x0 >= x1 || y0 >= y1; }
-  PixelBox Union(const PixelBox& b) const {
-    if (Empty()) return b;
-    if (b.Empty()) return *this;
-    return {std::min(x0, b.x0), std::min(y0, b.y0), std::max(x1, b.x1), std::max(y1, b.y1)};
-  }
-  bool Overlaps(const PixelBox& b) const {
-    return x0 < b.x1 && b.x0 < x1 && y0 < b.y1 && b.y0 < y1;
-  }
-};
 
 // The pixels whose area meets [lo, hi] along one axis (pixel i spans [i - 0.5, i + 0.5)),
 // clipped to [0, size). Clamped in double first so that far coordinates cannot overflow.

@@ -10,6 +10,7 @@
 #include "tumbletrace/sim/render.hpp"
 
 #include "frame_levels.hpp"
+#include "pixel_box.hpp"
 
 #include <algorithm>
 #include <cmath>
@@ -22,24 +23,6 @@
 
 namespace tumbletrace {
 namespace {
-
-// Pixels [x0, x1) x [y0, y1).
-struct PixelBox {
-  int x0 = 0;
-  int y0 = 0;
-  int x1 = 0;
-  int y1 = 0;
-
-  bool Empty() const { return x0 >= x1 || y0 >= y1; }
-  int width() const { return x1 - x0; }
-  int height() const { return y1 - y0; }
-};
-
-PixelBox Union(const PixelBox& a, const PixelBox& b) {
-  if (a.Empty()) return b;
-  if (b.Empty()) return a;
-  return {std::min(a.x0, b.x0), std::min(a.y0, b.y0), std::max(a.x1, b.x1), std::max(a.y1, b.y1)};
-}
 
 // The pixels whose centres lie within [lo, hi] along one axis, grown by half a pixel (a pixel
 // i spans [i - 0.5, i + 0.5)), clipped to [0, size). Clamping in double first keeps far-away
@@ -397,7 +380,7 @@ cv::Mat RenderFrame(const std::vector<SceneInstant>& exposure, const RenderSetti
     if (used == 0) continue;
 
     PixelBox region;
-    for (std::size_t i = 0; i < used; ++i) region = Union(region, patches[i].box);
+    for (std::size_t i = 0; i < used; ++i) region = region.Union(patches[i].box);
     delta.create(region.height(), region.width(), CV_32F);
     delta.setTo(0.0f);
     touched_begin.assign(region.height(), region.x1);

@@ -83,11 +83,7 @@ inline Recovery SimulateAndFitWithNoise(Scenario s, const FitOptions& options,
   Recovery r;
   r.sim = SimulateFlight(s);
   AddCorrelatedNoise(&r.sim.tracks, noise, seed);
-  std::vector<Camera> cameras;
-  for (const ScenarioCamera& c : s.FilmingCameras()) cameras.push_back(c.camera);
-  const std::vector<double> rates(cameras.size(), s.capture_fps);
-  r.fit = FitFreeFlight(GroupByFrame(r.sim.tracks, rates), s.body, cameras, options);
-  r.summary = Summarise(r.fit, s.body);
+  FitSimulatedTracks(options, &r);
   return r;
 }
 

@@ -37,17 +37,23 @@ inline int CorruptTracks(std::vector<TrackPoint>* tracks, double fraction, std::
   return n;
 }
 
+// Fits `r->sim`'s tracks with every camera of its scenario and summarises the fit.
+inline void FitSimulatedTracks(const FitOptions& options, Recovery* r) {
+  const Scenario& s = r->sim.scenario;
+  std::vector<Camera> cameras;
+  for (const ScenarioCamera& c : s.FilmingCameras()) cameras.push_back(c.camera);
+  const std::vector<double> rates(cameras.size(), s.capture_fps);
+  r->fit = FitFreeFlight(GroupByFrame(r->sim.tracks, rates), s.body, cameras, options);
+  r->summary = Summarise(r->fit, s.body);
+}
+
 // Every camera of the scenario takes part; the fit's clock offsets are those of `options`.
 inline Recovery SimulateAndFit(const Scenario& s, const FitOptions& options,
                                double outlier_fraction = 0.0) {
   Recovery r;
   r.sim = SimulateFlight(s);
   if (outlier_fraction > 0) CorruptTracks(&r.sim.tracks, outlier_fraction, s.seed + 77);
-  std::vector<Camera> cameras;
-  for (const ScenarioCamera& c : s.FilmingCameras()) cameras.push_back(c.camera);
-  const std::vector<double> rates(cameras.size(), s.capture_fps);
-  r.fit = FitFreeFlight(GroupByFrame(r.sim.tracks, rates), s.body, cameras, options);
-  r.summary = Summarise(r.fit, s.body);
+  FitSimulatedTracks(options, &r);
   return r;
 }
 
