@@ -39,6 +39,8 @@ double Fill(const Outline& outline, const BlobMarks& blob) {
   return inside > 0 ? static_cast<double>(in_blob) / inside : 1.0;
 }
 
+}  // namespace
+
 // Share of the blob's pixels p whose mirror image 2c - p (nearest pixel) is in the blob.
 double Symmetry(const Eigen::Vector2d& center_px, const BlobMarks& blob) {
   int pixels = 0, mirrored = 0;
@@ -55,8 +57,6 @@ double Symmetry(const Eigen::Vector2d& center_px, const BlobMarks& blob) {
   }
   return pixels > 0 ? static_cast<double>(mirrored) / pixels : 0.0;
 }
-
-}  // namespace
 
 CompletenessMeasures MeasureCompleteness(const Outline& outline, const BlobMarks& blob) {
   CompletenessMeasures m;

@@ -42,6 +42,10 @@ struct CompletenessMeasures {
 
 CompletenessMeasures MeasureCompleteness(const Outline& outline, const BlobMarks& blob);
 
+// Share of the blob's pixels p whose mirror image 2c - p (nearest pixel) is in the blob: 1
+// for a disc or a motion streak about their centre, about 0.6 for a lit crescent.
+double Symmetry(const Eigen::Vector2d& center_px, const BlobMarks& blob);
+
 // The centre's 1-sigma (px) of a fitted outline: the root of the largest eigenvalue of the
 // fit's covariance, with the bias of an incomplete outline added in quadrature,
 //   sigma = sqrt(sigma_fit^2 + (k (1 - score) r)^2),

@@ -165,6 +165,67 @@ void Summarise(const std::vector<EdgePoint>& points, const std::vector<double>& 
   outline->rms_px = std::sqrt(weighted_sum / std::max(1e-12, weight_sum));
 }
 
+// Step 2b: the outer envelope. The outline's points that are not on the marker's rim lie
+// inside it, never outside: the terminator of a sphere lit from one side (where the lit
+// crescent ends and the unlit side is no brighter than what lies behind it), the edge of
+// the body or of a shadow that cuts the marker. A fit that weighs them like rim points
+// puts the centre between the two, towards the light or the visible part. Iteratively
+// reweighted least squares with an asymmetric weight: 1 for a point outside the model or
+// less than `envelope_px` inside it, (envelope_px / depth)^2 deeper inside (Cauchy-like
+// down-weighting of one side; a standard IRLS scheme, common practice), so the model
+// settles on the outermost consistent arc; points farther outside than the trim limit
+// (a merged neighbour, a glint) are left out. Then `inlier` marks the points within
+// 2 envelope_px inside and the trim limit outside, and the model is refitted to them with
+// their own weights. False when fewer than kMinPoints remain or a step fails.
+template <int N, typename Residual>
+bool FitOuterEnvelope(const std::vector<EdgePoint>& points, const std::vector<double>& weights,
+                      const OutlineFitOptions& options, const Residual& residual,
+                      Eigen::Matrix<double, N, 1>* params, Eigen::Matrix<double, N, N>* normal,
+                      double* sum, std::vector<char>* inlier) {
+  const std::size_t n = points.size();
+  const double c = options.envelope_px;
+  std::vector<double> r(n), w(n);
+  std::vector<char> use(n);
+  double outer_limit = 0.0;
+  const auto measure = [&]() {
+    std::vector<double> rim;
+    for (std::size_t k = 0; k < n; ++k) {
+      r[k] = residual(*params, points[k].at_px, nullptr);
+      if (r[k] >= -c) rim.push_back(std::abs(r[k]));
+    }
+    if (rim.empty()) return false;
+    const auto middle = rim.begin() + rim.size() / 2;
+    std::nth_element(rim.begin(), middle, rim.end());
+    outer_limit = std::max(options.trim_sigmas * 1.4826 * *middle, options.min_trim_px);
+    return true;
+  };
+  for (int pass = 0; pass < options.envelope_passes; ++pass) {
+    if (!measure()) return false;
+    int count = 0;
+    for (std::size_t k = 0; k < n; ++k) {
+      use[k] = r[k] <= outer_limit;
+      count += use[k];
+      w[k] = weights[k] * (r[k] >= -c ? 1.0 : (c * c) / (r[k] * r[k]));
+    }
+    if (count < kMinPoints) return false;
+    const Eigen::Matrix<double, N, 1> before = *params;
+    const auto model = [&](const Eigen::Matrix<double, N, 1>& q, const Eigen::Vector2d& p,
+                           Eigen::Matrix<double, N, 1>* g) { return residual(q, p, g); };
+    if (!GaussNewton<N>(points, w, use, model, params, normal, sum)) return false;
+    if ((params->template head<2>() - before.template head<2>()).norm() < 1e-4) break;
+  }
+  if (!measure()) return false;
+  int count = 0;
+  for (std::size_t k = 0; k < n; ++k) {
+    (*inlier)[k] = r[k] >= -2.0 * c && r[k] <= outer_limit;
+    count += (*inlier)[k];
+  }
+  if (count < kMinPoints) return false;
+  const auto model = [&](const Eigen::Matrix<double, N, 1>& q, const Eigen::Vector2d& p,
+                         Eigen::Matrix<double, N, 1>* g) { return residual(q, p, g); };
+  return GaussNewton<N>(points, weights, *inlier, model, params, normal, sum);
+}
+
 }  // namespace
 
 std::optional<Outline> FitOutline(const std::vector<EdgePoint>& points,
@@ -197,6 +258,14 @@ std::optional<Outline> FitOutline(const std::vector<EdgePoint>& points,
     if (Trim(points, distance, options, &outline.inlier) < kMinPoints) return std::nullopt;
   }
   if (!GaussNewton<3>(points, weights, outline.inlier, circle_residual, &circle, &circle_normal, &sum)) {
+    return std::nullopt;
+  }
+  if (options.envelope_px > 0.0 &&
+      !FitOuterEnvelope<3>(points, weights, options,
+                           [](const Eigen::Vector3d& c, const Eigen::Vector2d& p, Eigen::Vector3d* g) {
+                             return CircleResidual(c, p, g);
+                           },
+                           &circle, &circle_normal, &sum, &outline.inlier)) {
     return std::nullopt;
   }
   if (!(circle(2) > 0.0)) return std::nullopt;
@@ -232,6 +301,11 @@ std::optional<Outline> FitOutline(const std::vector<EdgePoint>& points,
     if (Trim(points, distance, options, &inlier) < kMinPoints) return outline;
   }
   if (!GaussNewton<5>(points, weights, inlier, ellipse_residual, &ellipse, &ellipse_normal, &sum)) {
+    return outline;
+  }
+  if (options.envelope_px > 0.0 &&
+      !FitOuterEnvelope<5>(points, weights, options, ellipse_residual, &ellipse, &ellipse_normal,
+                           &sum, &inlier)) {
     return outline;
   }
   Eigen::Matrix2d shape;

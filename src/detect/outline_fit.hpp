@@ -9,6 +9,9 @@
 //   2. weighted least squares (Gauss-Newton) of the circle to its inliers, the inliers
 //      re-chosen from all points after each pass (|residual| below `trim_sigmas` robust
 //      standard deviations, 1.4826 x the median absolute residual, and at least `min_trim_px`);
+//   2b. the outer envelope: points inside the model are down-weighted (a terminator or a
+//      cutting edge lies inside a marker's rim, never outside it) until the fit settles on
+//      the outermost consistent arc (FitOuterEnvelope in outline_fit.cpp);
 //   3. when the inliers go round at least `ellipse_min_coverage` of the azimuths, the same
 //      for an ellipse started from the circle.
 // Points are weighted by their fall per pixel (a stronger edge places its point better).
@@ -29,6 +32,8 @@ struct OutlineFitOptions {
   double min_trim_px = 0.25;          // and never a tighter limit than this
   double ellipse_min_coverage = 0.8;  // share of rays with inliers that allows an ellipse
   int passes = 4;                     // trim-and-refit passes of each model
+  double envelope_px = 0.15;          // points deeper inside than this are down-weighted (0: off)
+  int envelope_passes = 12;           // reweighting passes of the outer envelope
 };
 
 struct Outline {

@@ -5,8 +5,9 @@
 // not.
 //
 // The centre. Of a blob of `min_outline_radius_px` or more (the radius of the uniform disc
-// of the same second moments) and elongation up to `max_outline_elongation`, the centre of
-// its outline (CentreMethod::kOutline): sub-pixel points where the residue falls fastest
+// of the same second moments) and elongation up to `max_outline_elongation` (weighted by the
+// residue, or, 0.5 px larger, by its thresholded pixels alone; or of outline size and
+// lopsided, as a lit crescent is: docs/method.md), the centre of its outline (CentreMethod::kOutline): sub-pixel points where the residue falls fastest
 // along 64 rays from the centroid, and a robust fit of a circle (and, when the points go
 // round the blob, an ellipse) to them, weighted by the edge's steepness, outliers trimmed.
 // The brightness inside (the shading of a sphere lit from one side, a specular highlight)
@@ -107,6 +108,11 @@ class MarkerDetector {
   // Detects in `core` (a non-empty part of the image), looking at `work` (core and margin).
   void DetectIn(const cv::Mat& image, const cv::Rect& core, const cv::Rect& work,
                 double threshold, std::vector<Detection>* out);
+  // Measures one blob (pixel coordinates of `work`) and adds its detection to `out` when
+  // it is accepted.
+  void MeasureBlob(const cv::Mat& roi, const cv::Mat& residue, const cv::Rect& core,
+                   const cv::Rect& work, double threshold, const std::vector<cv::Point>& blob,
+                   std::vector<Detection>* out);
 
   DetectorOptions options_;
   double noise_sigma_ = -1.0;
