@@ -181,11 +181,15 @@ std::string TrackingSummary(const TrackingResult& t) {
     if (t.cameras.size() > 1) text += c.name + ": ";
     text += fmt::format(
         "Read {} frames ({}x{} px, {}-bit {}); {} detections (background filter radius {} px); "
-        "{} tracks, {} identified as markers (assignment rms {:.3f} px)\n",
+        "{} tracks, {} identified as markers (assignment rms {:.3f} px){}\n",
         c.frames_read, c.clip.size.width, c.clip.size.height, c.clip.bit_depth, c.clip.kind,
         c.detections, c.background_radius_px,
         c.identification.marker_of_track.size() + c.identification.unidentified_tracks.size(),
-        c.identification.marker_of_track.size(), c.identification.anchor_rms_px);
+        c.identification.marker_of_track.size(), c.identification.anchor_rms_px,
+        c.off_size > 0 ? fmt::format("; {} sightings of another size than their marker's image "
+                                       "in the frame (partly hidden, or merged) left out of the fit",
+                                       c.off_size)
+                         : std::string());
   }
   return text;
 }

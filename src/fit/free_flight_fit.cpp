@@ -345,6 +345,17 @@ Eigen::MatrixXd MarginalInformation(const Eigen::MatrixXd& jacobian, int first, 
          a_oc.transpose() * a_oo.completeOrthogonalDecomposition().solve(a_oc);
 }
 
+// Whether the data determine a torque-free model's principal axes and moments (`size`
+// columns from `first`, the principal frame's tangent then [s, d]), with every other
+// parameter marginalised: in radians and moment ratios alike, a 1-sigma of 0.2 in some
+// direction of them is no determination.
+bool InertiaDetermined(const Eigen::MatrixXd& jacobian, int first, int size, double sigma_px) {
+  Eigen::SelfAdjointEigenSolver<Eigen::MatrixXd> eig(MarginalInformation(jacobian, first, size));
+  const double largest = std::max(eig.eigenvalues().maxCoeff(), 1e-300);
+  const double smallest_sigma = sigma_px / std::sqrt(std::max(eig.eigenvalues().minCoeff(), 1e-300));
+  return eig.eigenvalues().minCoeff() > 1e-9 * largest && smallest_sigma < 0.2;
+}
+
 // The information of c with every other parameter marginalised, its eigen-structure, and
 // the unobservable directions.
 CmObservability AnalyseCm(const Eigen::MatrixXd& jacobian, int cm_column, double sigma_px,
@@ -526,15 +537,34 @@ ModelFit ChooseRotationModel(const FitContext& ctx, const std::vector<BodyPose>&
   const std::vector<bool> all(ctx.sightings.size(), true);
   const ModelFit first_spin =
       FitModel(ctx, RotationModel::kConstantSpin, initial, all, true, Precision::kComparison);
-  const ModelFit free =
+  ModelFit free =
       FitModel(ctx, RotationModel::kFreeTop,
                InitialiseTorqueFree(poses, first_spin.parameters, RotationModel::kFreeTop, ctx.options),
                all, true, Precision::kComparison);
-  const ModelFit spin = FitModel(ctx, RotationModel::kConstantSpin, first_spin.parameters, free.use,
-                                 false, Precision::kComparison);
+  ModelFit spin = FitModel(ctx, RotationModel::kConstantSpin, first_spin.parameters, free.use,
+                           false, Precision::kComparison);
+  // The free top contains the constant spin (a steady spin about a principal axis): a free
+  // top that ends above it on the same sightings stopped in another valley (a start from
+  // poorly determined poses). It starts again from the steady spin, and the better of the
+  // two per sighting kept is taken.
+  if (free.sum_sq_px2 > spin.sum_sq_px2) {
+    const ModelFit again = FitModel(
+        ctx, RotationModel::kFreeTop,
+        SteadySpinStart(first_spin.parameters, RotationModel::kFreeTop, ctx.options), all, true,
+        Precision::kComparison);
+    const auto per_sighting = [](const ModelFit& f) {
+      return f.sum_sq_px2 / std::max<double>(1.0, std::count(f.use.begin(), f.use.end(), true));
+    };
+    if (per_sighting(again) < per_sighting(free)) {
+      free = again;
+      spin = FitModel(ctx, RotationModel::kConstantSpin, first_spin.parameters, free.use, false,
+                      Precision::kComparison);
+    }
+  }
   const int n = 2 * static_cast<int>(std::count(free.use.begin(), free.use.end(), true));
   std::vector<ModelFit> fits = {spin, free};
   std::string skipped;
+  bool free_determined = true;
   if (!ctx.options.held_inertia) {
     const int symmetric_parameters = free.parameter_count - 2;
     const double bound = Bic(free.sum_sq_px2, n, symmetric_parameters);
@@ -548,6 +578,7 @@ ModelFit ChooseRotationModel(const FitContext& ctx, const std::vector<BodyPose>&
       const Eigen::MatrixXd jacobian = DenseJacobian(mp);
       const Eigen::Matrix2d info = MarginalInformation(jacobian, ColumnOf(mp, blocks.sd), 2);
       const double s2 = free.sum_sq_px2 / std::max(1, n - free.parameter_count);
+      free_determined = InertiaDetermined(jacobian, ColumnOf(mp, blocks.principal), 3, std::sqrt(s2));
       const Eigen::Matrix2d cov = s2 * info.completeOrthogonalDecomposition().pseudoInverse();
       // Differences of the moments (s - d, s + d, 1) as gradients in (s, d).
       const double s = blocks.sd[0], d = blocks.sd[1];
@@ -573,6 +604,13 @@ ModelFit ChooseRotationModel(const FitContext& ctx, const std::vector<BodyPose>&
                            free.use, false, Precision::kComparison));
     }
   }
+  // A torque-free model whose principal axes the data do not determine (a spin about a
+  // principal axis: the other two axes can turn about it freely) says nothing the constant
+  // spin does not: what lowers its sum of squares is the noise and the centres' own errors,
+  // which its free directions follow (they would then carry the CM's component along the
+  // spin axis, unobservable otherwise). It is scored but cannot win. (The axes alone are
+  // judged: the moments of a flip seen over part of the flight, in the window search's first
+  // trials, can be loosely held while the axes are not.)
   size_t best = 0;
   for (size_t m = 0; m < fits.size(); ++m) {
     FitResult::ModelTrial trial;
@@ -582,7 +620,12 @@ ModelFit ChooseRotationModel(const FitContext& ctx, const std::vector<BodyPose>&
     trial.bic = Bic(fits[m].sum_sq_px2, n, fits[m].parameter_count);
     trial.converged = fits[m].summary.termination_type == ceres::CONVERGENCE;
     result->model_trials.push_back(trial);
-    if (trial.bic < result->model_trials[best].bic) best = m;
+    const bool eligible = fits[m].model == RotationModel::kConstantSpin || free_determined;
+    if (eligible && trial.bic < result->model_trials[best].bic) best = m;
+  }
+  if (!free_determined) {
+    skipped += "; the torque-free models cannot win: the flight does not determine the principal "
+               "axes (the body turned about a principal axis)";
   }
   std::string others;
   for (size_t m = 0; m < fits.size(); ++m) {
@@ -903,13 +946,9 @@ FitResult FitFreeFlight(const std::vector<FrameSightings>& frames, const Body& b
   // same with fewer parameters, and a fit asked to estimate them has nothing to go on).
   result.inertia_held = chosen.model != RotationModel::kConstantSpin && options.held_inertia;
   if (chosen.model != RotationModel::kConstantSpin && !options.held_inertia) {
-    const int first = ColumnOf(mp, blocks.principal);
     const int size = (chosen.model == RotationModel::kSymmetricTop) ? 3 : 5;
-    Eigen::SelfAdjointEigenSolver<Eigen::MatrixXd> eig(MarginalInformation(jacobian, first, size));
-    const double largest = std::max(eig.eigenvalues().maxCoeff(), 1e-300);
-    // In radians and moment ratios alike, a 1-sigma of 0.2 is no determination.
-    const double smallest_sigma = result.sigma_px / std::sqrt(std::max(eig.eigenvalues().minCoeff(), 1e-300));
-    result.inertia_determined = eig.eigenvalues().minCoeff() > 1e-9 * largest && smallest_sigma < 0.2;
+    result.inertia_determined =
+        InertiaDetermined(jacobian, ColumnOf(mp, blocks.principal), size, result.sigma_px);
     if (!result.inertia_determined) {
       result.warnings.push_back(fmt::format(
           "The {} rotation model was fitted, but the flight does not determine the principal "

@@ -189,10 +189,8 @@ FlightParameters SymmetricStart(const FlightParameters& free_top) {
   return p;
 }
 
-FlightParameters InitialiseTorqueFree(const std::vector<BodyPose>& poses,
-                                      const FlightParameters& spin, RotationModel model,
-                                      const FitOptions& options) {
-  if (model == RotationModel::kConstantSpin) return spin;
+FlightParameters SteadySpinStart(const FlightParameters& spin, RotationModel model,
+                                 const FitOptions& options) {
   FlightParameters p = spin;
   p.rotation_model = model;
   p.max_step_angle_rad = options.max_step_angle_rad;
@@ -200,6 +198,20 @@ FlightParameters InitialiseTorqueFree(const std::vector<BodyPose>& poses,
       Eigen::Quaterniond(spin.q0_wxyz[0], spin.q0_wxyz[1], spin.q0_wxyz[2], spin.q0_wxyz[3])
           .normalized()
           .toRotationMatrix();
+  const Eigen::Vector3d axis_body = (r0.transpose() * spin.omega_world_radps).normalized();
+  const Eigen::Quaterniond frame = Eigen::Quaterniond::FromTwoVectors(Eigen::Vector3d::UnitZ(), axis_body);
+  p.body_from_principal_wxyz = Wxyz(frame);
+  p.moments_sd = {0.8, model == RotationModel::kSymmetricTop ? 0.0 : 0.1};
+  return p;
+}
+
+FlightParameters InitialiseTorqueFree(const std::vector<BodyPose>& poses,
+                                      const FlightParameters& spin, RotationModel model,
+                                      const FitOptions& options) {
+  if (model == RotationModel::kConstantSpin) return spin;
+  FlightParameters p = spin;
+  p.rotation_model = model;
+  p.max_step_angle_rad = options.max_step_angle_rad;
 
   if (options.held_inertia) {
     const HeldInertia& held = *options.held_inertia;
@@ -264,11 +276,9 @@ FlightParameters InitialiseTorqueFree(const std::vector<BodyPose>& poses,
     }
     if (!determined) {
       // A spin about a principal axis along the constant-spin axis: the same motion.
-      const Eigen::Vector3d axis_body = (r0.transpose() * spin.omega_world_radps).normalized();
-      const Eigen::Quaterniond frame =
-          Eigen::Quaterniond::FromTwoVectors(Eigen::Vector3d::UnitZ(), axis_body);
-      p.body_from_principal_wxyz = Wxyz(frame);
-      p.moments_sd = {0.8, model == RotationModel::kSymmetricTop ? 0.0 : 0.1};
+      const FlightParameters steady = SteadySpinStart(spin, model, options);
+      p.body_from_principal_wxyz = steady.body_from_principal_wxyz;
+      p.moments_sd = steady.moments_sd;
     }
   }
 

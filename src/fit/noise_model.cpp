@@ -88,6 +88,48 @@ double Median(std::vector<double> v) {
   return *mid;
 }
 
+// Sum of J_s^T over a series' rows: g_s = J_s^T 1.
+Eigen::VectorXd ColumnSums(const SeriesNoise& s, const Eigen::MatrixXd& jacobian) {
+  Eigen::VectorXd g = Eigen::VectorXd::Zero(jacobian.cols());
+  for (int a : s.rows) g += jacobian.row(a).transpose();
+  return g;
+}
+
+// The variance of a constant offset per series, by the method of moments on the series'
+// residual sums (see noise_model.hpp): with u_s = (I - H) 1_s, E[(1_s^T r)^2] =
+// u_s^T Omega_AR u_s + tau^2 sum_s' (1_s'^T u_s)^2, summed over the series and solved for
+// tau^2 (at least 0). With h_s = A^+ g_s: 1_s'^T u_s = delta_ss' T_s - g_s'^T h_s and
+// u_s^T Omega_AR u_s = 1^T Omega_s 1 - 2 (J_s^T Omega_s 1)^T h_s + h_s^T (J^T Omega_AR J) h_s.
+double OffsetVariance(const NoiseModel& model, const Eigen::VectorXd& residuals_px,
+                      const Eigen::MatrixXd& jacobian, const Eigen::MatrixXd& information_pinv) {
+  const size_t n = model.series.size();
+  if (n < 2) return 0.0;
+  const Eigen::Index p = jacobian.cols();
+  Eigen::MatrixXd g(p, n), h(p, n);
+  for (size_t k = 0; k < n; ++k) g.col(k) = ColumnSums(model.series[k], jacobian);
+  h = information_pinv * g;
+  const Eigen::MatrixXd meat = Ar1Meat(jacobian, model);
+  const Eigen::MatrixXd cross = g.transpose() * h;  // g_s'^T h_s at (s', s)
+  double observed = 0.0, expected_ar = 0.0, per_offset = 0.0;
+  for (size_t k = 0; k < n; ++k) {
+    const SeriesNoise& s = model.series[k];
+    double sum_r = 0.0;
+    for (int a : s.rows) sum_r += residuals_px[a];
+    observed += sum_r * sum_r;
+    Eigen::MatrixXd rows(s.rows.size(), p);
+    for (size_t t = 0; t < s.rows.size(); ++t) rows.row(t) = jacobian.row(s.rows[t]);
+    const Eigen::VectorXd omega_one =
+        Ar1CovarianceTimes(Eigen::MatrixXd::Ones(s.rows.size(), 1), s.frames, s.variance_px2, s.rho);
+    expected_ar += omega_one.sum() - 2.0 * (rows.transpose() * omega_one).dot(h.col(k)) +
+                   h.col(k).dot(meat * h.col(k));
+    for (size_t m = 0; m < n; ++m) {
+      const double u = (m == k ? static_cast<double>(s.rows.size()) : 0.0) - cross(m, k);
+      per_offset += u * u;
+    }
+  }
+  return per_offset > 0 ? std::max((observed - expected_ar) / per_offset, 0.0) : 0.0;
+}
+
 }  // namespace
 
 NoiseModel EstimateAr1Noise(const Eigen::VectorXd& residuals_px, const Eigen::MatrixXd& jacobian,
@@ -141,6 +183,8 @@ NoiseModel EstimateAr1Noise(const Eigen::VectorXd& residuals_px, const Eigen::Ma
   }
   model.median_rho = Median(rhos);
   model.max_rho = rhos.empty() ? 0.0 : *std::max_element(rhos.begin(), rhos.end());
+  model.offset_variance_px2 = std::max(OffsetVariance(model, residuals_px, jacobian, information_pinv),
+                                       options.min_offset_sigma_px * options.min_offset_sigma_px);
   return model;
 }
 
@@ -172,6 +216,10 @@ Eigen::MatrixXd Ar1Meat(const Eigen::MatrixXd& jacobian, const NoiseModel& model
     Eigen::MatrixXd rows(s.rows.size(), p);
     for (size_t k = 0; k < s.rows.size(); ++k) rows.row(k) = jacobian.row(s.rows[k]);
     meat += rows.transpose() * Ar1CovarianceTimes(rows, s.frames, s.variance_px2, s.rho);
+    if (model.offset_variance_px2 > 0) {
+      const Eigen::VectorXd g = rows.colwise().sum().transpose();
+      meat += model.offset_variance_px2 * g * g.transpose();
+    }
   }
   return 0.5 * (meat + meat.transpose());
 }

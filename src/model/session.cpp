@@ -91,6 +91,12 @@ MarkerDetectionSettings ReadMarkerSettings(YamlMap& map) {
       (*settings.background_radius_px < 1 || *settings.background_radius_px > 50)) {
     map.Fail("background_radius_px", "a radius in whole pixels, 1 to 50, wider than a dot's radius");
   }
+  const std::string offset_expected = "a centre offset in pixels, 0 to 5";
+  settings.centre_offset_px =
+      map.OptionalNumber("centre_offset_px", offset_expected).value_or(settings.centre_offset_px);
+  if (!(settings.centre_offset_px >= 0 && settings.centre_offset_px <= 5)) {
+    map.Fail("centre_offset_px", offset_expected);
+  }
   map.Finish();
   return settings;
 }
@@ -432,8 +438,12 @@ void WriteSessionYaml(const Session& session, const std::filesystem::path& path)
     if (markers.background_radius_px) {
       out << fmt::format(", background_radius_px: {}", *markers.background_radius_px);
     }
-    out << fmt::format(", min_area_px: {}, max_area_px: {}}}\n", markers.min_area_px,
+    out << fmt::format(", min_area_px: {}, max_area_px: {}", markers.min_area_px,
                        markers.max_area_px);
+    if (markers.centre_offset_px != MarkerDetectionSettings{}.centre_offset_px) {
+      out << fmt::format(", centre_offset_px: {}", markers.centre_offset_px);
+    }
+    out << "}\n";
     if (session.first_frame || session.last_frame) {
       out << "frames: {";
       if (session.first_frame) out << "first: " << *session.first_frame;

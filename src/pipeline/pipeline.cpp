@@ -9,6 +9,7 @@
 
 #include "tumbletrace/core/error.hpp"
 #include "tumbletrace/detect/background_radius.hpp"
+#include "tumbletrace/identify/sighting_size.hpp"
 
 namespace tumbletrace {
 namespace {
@@ -74,6 +75,7 @@ CameraTracking TrackCamera(const Session& session, int camera_index, FrameSource
     throw DataError(fmt::format("{} ({}): {}", camera.name, camera.clip.string(), e.what()));
   }
   for (TrackPoint& p : found) p.camera = camera_index;
+  result.off_size = MarkOffSizeSightings(&found, session.body).marked;
   points->insert(points->end(), found.begin(), found.end());
   return result;
 }
@@ -112,6 +114,7 @@ FitOptions FitOptionsFor(const Session& session) {
     options.gravity_mode = GravityMode::kDirection;
     options.gravity_world_mps2 = Eigen::Vector3d(0, session.gravity.Magnitude(), 0);
   }
+  options.noise_model.min_offset_sigma_px = session.markers.centre_offset_px;
   options.first_frame = session.first_frame;
   options.last_frame = session.last_frame;
   options.time_offsets_s = session.TimeOffsets();

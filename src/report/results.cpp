@@ -64,6 +64,7 @@ json NoiseModelJson(const FitResult& fit, const FlightSummary& s) {
           {"max_rho", fit.noise.max_rho},
           {"pooled_rho", fit.noise.pooled_rho},
           {"sigma_px_range", {low, high}},
+          {"offset_sigma_px", std::sqrt(fit.noise.offset_variance_px2)},
           {"sentence", NoiseModelSentence(fit, s)}};
 }
 

@@ -391,6 +391,8 @@ TrackPoint Tracker::PointFor(Track* track, const Detection& d, int frame, double
   p.y_px = d.center_px.y();
   p.quality = d.quality;
   p.sigma_px = d.sigma_px;
+  p.radius_px = d.radius_px;
+  p.outline_fitted = d.outline_fitted;
   std::vector<double>& radii = track->radii_px;
   if (radii.size() >= 3) {
     std::vector<double> sorted = radii;

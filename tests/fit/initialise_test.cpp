@@ -47,3 +47,29 @@ TEST(Initialise, RefusesWithTooFewPosedFrames) {
 
 }  // namespace
 }  // namespace tumbletrace
+
+namespace tumbletrace {
+namespace {
+
+// The steady-spin start of a torque-free model predicts the constant spin's orientations
+// (a spin about a principal axis is an equilibrium of Euler's equations), for an axis
+// oblique to the body's axes, so that a free top fitted from it ends no worse.
+TEST(SteadySpinStart, ReproducesTheConstantSpin) {
+  FlightParameters spin;
+  spin.rotation_model = RotationModel::kConstantSpin;
+  spin.q0_wxyz = Eigen::Vector4d(0.9, 0.1, -0.3, 0.2).normalized();
+  spin.omega_world_radps = Eigen::Vector3d(3.0, -30.0, 5.0);
+  for (const RotationModel model : {RotationModel::kFreeTop, RotationModel::kSymmetricTop}) {
+    const FlightParameters steady = SteadySpinStart(spin, model, FitOptions{});
+    EXPECT_EQ(steady.rotation_model, model);
+    for (const double t : {-0.12, -0.05, 0.0, 0.03, 0.125}) {
+      const Eigen::Matrix3d difference =
+          spin.WorldFromBodyAt(t).transpose() * steady.WorldFromBodyAt(t) - Eigen::Matrix3d::Identity();
+      EXPECT_LT(difference.cwiseAbs().maxCoeff(), 1e-6) << RotationModelName(model) << " t " << t;
+      EXPECT_LT((spin.OmegaWorldAt(t) - steady.OmegaWorldAt(t)).norm(), 1e-6);
+    }
+  }
+}
+
+}  // namespace
+}  // namespace tumbletrace

@@ -271,7 +271,10 @@ TEST_F(SessionFileTest, BadValuesAreNamed) {
             "got '5'");
   EXPECT_EQ(ErrorReading("markers: {colour: red}\n"),
             "session.yaml:5: unknown key 'colour' in 'markers'; allowed: background_radius_px, "
-            "kind, max_area_px, min_area_px, threshold");
+            "centre_offset_px, kind, max_area_px, min_area_px, threshold");
+  EXPECT_EQ(ErrorReading("markers: {centre_offset_px: -1}\n"),
+            "session.yaml:5: key 'markers.centre_offset_px': expected a centre offset in pixels, 0 "
+            "to 5, got '-1'");
   EXPECT_EQ(ErrorReading("markers: {background_radius_px: 0}\n"),
             "session.yaml:5: key 'markers.background_radius_px': expected a radius in whole "
             "pixels, 1 to 50, wider than a dot's radius, got '0'");

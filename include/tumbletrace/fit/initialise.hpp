@@ -61,4 +61,12 @@ FlightParameters InitialiseTorqueFree(const std::vector<BodyPose>& poses,
                                       const FlightParameters& spin, RotationModel model,
                                       const FitOptions& options);
 
+// A torque-free model's start that predicts exactly the motion of the constant-spin
+// parameters `spin`: a steady spin about the largest principal axis, set along the spin
+// axis (an equilibrium of Euler's equations whatever the other two moments), with
+// moments (0.7, 0.9, 1) (the symmetric top: (0.8, 0.8, 1)). The torque-free model
+// contains the constant spin so; a fit from here ends no worse than the constant spin.
+FlightParameters SteadySpinStart(const FlightParameters& spin, RotationModel model,
+                                 const FitOptions& options);
+
 }  // namespace tumbletrace

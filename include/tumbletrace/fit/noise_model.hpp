@@ -29,6 +29,21 @@
 // more than their noise share the pooled rho, a series of a few sightings takes it, and
 // series that truly differ keep their own. rho is bounded to [rho_min, rho_max].
 //
+// A marker's centre can also be off by an amount that stays through the flight (a sphere
+// lit from one side looks the same from every side of the body, so its shading bias is
+// nearly fixed in the image, and differs from marker to marker by their blur and place in
+// the field): an AR(1) decays and cannot hold it. Each series therefore also carries a
+// constant offset c_s, drawn with a variance tau^2 shared by all series (a random effect):
+//
+//   Omega_s = AR(1) as above + tau^2 1 1^T
+//
+// tau^2 by the method of moments on the series' residual sums: with u_s = (I - H) 1_s,
+// E[(1_s^T r)^2] = u_s^T Omega_AR u_s + tau^2 sum_s' (1_s'^T u_s)^2; summed over the
+// series and solved for tau^2, at least 0. (The offsets' share of each series' level also
+// enters its AR(1) estimate; the moment equation subtracts that model's expectation, so
+// the two together match the residual sums.) In the meat it adds tau^2 g_s g_s^T per
+// series, g_s = J_s^T 1.
+//
 // J_s^T Omega_s J_s needs no T x T matrix: (Omega_s J_s)_t = sigma_s^2 (j_t + F_t + B_t)
 // with the forward and backward sums F_t = rho^(f_t - f_t-1) (F_t-1 + j_t-1), B_t =
 // rho^(f_t+1 - f_t) (B_t+1 + j_t+1): O(T p) for Omega_s J_s, O(T p^2) for the product.
@@ -52,6 +67,9 @@ struct NoiseModelOptions {
   double prior_residuals = 4.0;  // pseudo-residuals at the pooled variance (shrinkage)
   double rho_min = -0.9;
   double rho_max = 0.99;         // a series' bias that hardly changes over the window
+  // The least tau (px): offsets the fit absorbs leave no trace in the residuals, so the
+  // moment estimate cannot see them; what the detector is known to leave is given here.
+  double min_offset_sigma_px = 0.0;
 };
 
 // One series' estimates.
@@ -74,6 +92,7 @@ struct NoiseModel {
   double pooled_rho = 0.0;
   double median_rho = 0.0;           // over the series with lag-1 pairs (0 if none)
   double max_rho = 0.0;
+  double offset_variance_px2 = 0.0;  // tau^2: a per-series constant offset's variance
 };
 
 // Estimates the model from the residuals `residuals_px` (one per row of `jacobian`), the

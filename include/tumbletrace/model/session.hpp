@@ -39,6 +39,9 @@ struct MarkerDetectionSettings {
   double min_area_px = 3.0;
   double max_area_px = 2000.0;
   std::optional<int> background_radius_px;  // the detector's background disc; wider than a dot
+  // 1-sigma of the part of a detected centre's error that stays through the flight (a
+  // marker's shading, blur and place in the field), px; enters every sigma (fit/noise_model.hpp)
+  double centre_offset_px = 0.05;
 };
 
 // One camera of a session: its clip, its calibration and its clock. Frame i of its clip is

@@ -20,6 +20,8 @@ struct TrackPoint {
   double y_px = 0.0;
   double quality = 1.0;  // 0..1; 0: kept in its track for continuity, left out of the fit
   double sigma_px = 0.0; // the detector's 1-sigma of the centre (0: unknown; not in the file)
+  double radius_px = 0.0; // the detector's radius of the blob (0: unknown; not in the file)
+  bool outline_fitted = false;  // the radius is a fitted outline's (not in the file)
   int source_line = 0;   // line in the file it was read from (0: not read from a file)
   int camera = 0;        // index of the camera in the session's list
 };
