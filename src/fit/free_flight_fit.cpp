@@ -620,10 +620,11 @@ ModelFit ChooseRotationModel(const FitContext& ctx, const std::vector<BodyPose>&
     trial.bic = Bic(fits[m].sum_sq_px2, n, fits[m].parameter_count);
     trial.converged = fits[m].summary.termination_type == ceres::CONVERGENCE;
     result->model_trials.push_back(trial);
-    const bool eligible = fits[m].model == RotationModel::kConstantSpin || free_determined;
+    const bool eligible = fits[m].model == RotationModel::kConstantSpin || free_determined ||
+                          !ctx.options.torque_free_needs_axes;
     if (eligible && trial.bic < result->model_trials[best].bic) best = m;
   }
-  if (!free_determined) {
+  if (!free_determined && ctx.options.torque_free_needs_axes) {
     skipped += "; the torque-free models cannot win: the flight does not determine the principal "
                "axes (the body turned about a principal axis)";
   }

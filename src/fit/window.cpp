@@ -241,6 +241,7 @@ FreeFlightWindow FindFreeFlightWindow(const std::vector<FrameSightings>& frames,
   // drag held as a free parameter (nested: k near 0 in vacuum) unless the user chose.
   FitOptions grow = fit_options;
   if (grow.drag == DragChoice::kAuto) grow.drag = DragChoice::kQuadratic;
+  grow.torque_free_needs_axes = false;
   const int core = std::max(10, static_cast<int>(std::lround(options.core_fraction * n)));
   int lo = std::max(0, (n - core) / 2);
   int hi = std::min(n - 1, lo + core - 1);

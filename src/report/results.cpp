@@ -45,10 +45,14 @@ std::string NoiseModelSentence(const FitResult& fit, const FlightSummary& s) {
       "The sigmas allow for errors that differ in level from marker to marker and are "
       "correlated from frame to frame: each of the {} residual series (camera x marker x "
       "image coordinate) has its own noise level ({:.3f}-{:.3f} px) and lag-1 correlation "
-      "(median {:.2f}, largest {:.2f}), an AR(1) model entering a sandwich covariance. Against "
-      "independent errors of one level, the CM's variances are {} times as large ({}).",
+      "(median {:.2f}, largest {:.2f}), an AR(1) model, and each carries an offset that lasts "
+      "through the flight (1-sigma {:.3f} px: a marker's shading, blur and place in the field, "
+      "which the fit partly absorbs and the residuals cannot show; at least the session's "
+      "markers.centre_offset_px), entering a sandwich covariance. Against independent errors "
+      "of one level, the CM's variances are {} times as large ({}).",
       fit.noise.series.size(), low, high, fit.noise.median_rho, fit.noise.max_rho,
-      factors.empty() ? "-" : "these", factors.empty() ? "no CM component determined" : factors);
+      std::sqrt(fit.noise.offset_variance_px2), factors.empty() ? "-" : "these",
+      factors.empty() ? "no CM component determined" : factors);
 }
 
 json NoiseModelJson(const FitResult& fit, const FlightSummary& s) {

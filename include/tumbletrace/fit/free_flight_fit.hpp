@@ -84,6 +84,11 @@ struct FitOptions {
   std::vector<double> time_offsets_s;
   bool estimate_time_offsets = false;
   RotationChoice rotation = RotationChoice::kAuto;
+  // In the automatic choice, a torque-free model whose principal axes the flight does not
+  // determine cannot win (docs/method.md). Off for the window search's core fit: it sees
+  // part of the flight, where a wobble's axes can be loosely held, and the richer model
+  // grows the window; the final fit on the whole window applies it.
+  bool torque_free_needs_axes = true;
   DragChoice drag = DragChoice::kAuto;
   Eigen::Vector3d wind_world_mps = Eigen::Vector3d::Zero();  // steady wind, given
   // Hold the principal axes and moment ratios (torque-free models) instead of estimating.
