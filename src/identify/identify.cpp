@@ -187,31 +187,57 @@ AnchorResult AssignAnchor(const std::map<int, Pixels>& tracks,
   }
 
   // 2. Every injective assignment of the anchor tracks to markers.
-  std::vector<Eigen::Vector2d> anchor_px;
-  for (int t : anchor_tracks) anchor_px.push_back(tracks.at(t).at(anchor_frame));
-  const int k = static_cast<int>(anchor_tracks.size());
   struct Candidate {
     std::vector<int> markers;
     double score;
   };
-  std::vector<Candidate> candidates;
-  std::vector<int> chosen(k);
-  std::vector<bool> used(n_markers, false);
-  std::function<void(int)> enumerate = [&](int depth) {
-    if (depth == k) {
-      const PoseFit fit = solver.Solve(chosen, anchor_px);
-      if (fit.ok && fit.rms_px <= options.accept_rms_px) candidates.push_back({chosen, fit.rms_px});
-      return;
-    }
-    for (int m = 0; m < n_markers; ++m) {
-      if (used[m]) continue;
-      used[m] = true;
-      chosen[depth] = ids[m];
-      enumerate(depth + 1);
-      used[m] = false;
-    }
+  const auto assignments = [&](const std::vector<int>& anchor) {
+    std::vector<Eigen::Vector2d> anchor_px;
+    for (int t : anchor) anchor_px.push_back(tracks.at(t).at(anchor_frame));
+    const int k = static_cast<int>(anchor.size());
+    std::vector<Candidate> found;
+    std::vector<int> chosen(k);
+    std::vector<bool> used(n_markers, false);
+    std::function<void(int)> enumerate = [&](int depth) {
+      if (depth == k) {
+        const PoseFit fit = solver.Solve(chosen, anchor_px);
+        if (fit.ok && fit.rms_px <= options.accept_rms_px) found.push_back({chosen, fit.rms_px});
+        return;
+      }
+      for (int m = 0; m < n_markers; ++m) {
+        if (used[m]) continue;
+        used[m] = true;
+        chosen[depth] = ids[m];
+        enumerate(depth + 1);
+        used[m] = false;
+      }
+    };
+    enumerate(0);
+    return found;
   };
-  enumerate(0);
+  std::vector<Candidate> candidates = assignments(anchor_tracks);
+  // No assignment of them all: one of the anchor tracks may be no marker (a glint, a
+  // highlight on the body, a marker's core cut from the body's lit edge at the wrong place).
+  // Each is left out in turn (5 or more tracks, so that 4 remain); the set whose best pose
+  // fits best is taken.
+  if (candidates.empty() && anchor_tracks.size() >= 5) {
+    double best_rms = std::numeric_limits<double>::infinity();
+    std::vector<int> best_tracks;
+    for (size_t drop = 0; drop < anchor_tracks.size(); ++drop) {
+      std::vector<int> subset = anchor_tracks;
+      subset.erase(subset.begin() + static_cast<std::ptrdiff_t>(drop));
+      std::vector<Candidate> found = assignments(subset);
+      for (const Candidate& c : found) {
+        if (c.score < best_rms) {
+          best_rms = c.score;
+          best_tracks = subset;
+          candidates = found;
+        }
+      }
+    }
+    if (!candidates.empty()) anchor_tracks = best_tracks;
+  }
+  const int k = static_cast<int>(anchor_tracks.size());
   if (candidates.empty()) {
     out.why = fmt::format(
         "no assignment of the {} tracks seen in frame {} to the body's {} markers fits a rigid "

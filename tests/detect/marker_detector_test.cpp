@@ -500,3 +500,46 @@ TEST(MarkerDetector, RefusesImagesItCannotRead) {
 
 }  // namespace
 }  // namespace tumbletrace
+
+namespace tumbletrace {
+namespace {
+
+// A marker joined above the threshold to a bright band (the lit edge of a handle: an
+// anti-aliased line, 3 px above the threshold) makes one long blob, refused as before; its
+// disc-shaped core is then measured alone and found within 0.1 px of its centre, with
+// quality 0 (tracking and identification only). The band alone gives nothing, and without
+// the core search (split_joined = false) the marker is lost, as it was. (A band as wide as
+// the opening's disc, 7 px here, stays joined: measured with a 5 px line.)
+TEST(MarkerDetector, MarkerJoinedToABrightBandIsFoundByItsCore) {
+  std::vector<SceneInstant> exposure(1);
+  const Eigen::Vector2d marker(400.3, 300.6);
+  exposure[0].dots.push_back(Dot(marker.x(), marker.y(), 4.4));
+  exposure[0].dots.push_back(Dot(600.2, 300.4, 4.4));  // a free marker: the control
+  cv::Mat image = Render(exposure, 31);
+  cv::Mat band = Render({}, 32);
+  for (cv::Mat* m : {&image, &band}) {
+    cv::line(*m, cv::Point(406, 250), cv::Point(406, 360), cv::Scalar(120), 1, cv::LINE_AA);
+  }
+  DetectorOptions options;
+  options.background_radius_px = 6;
+
+  MarkerDetector detector(options);
+  const std::vector<Detection> found = detector.Detect(image);
+  const Detection* joined = Nearest(found, marker);
+  ASSERT_NE(joined, nullptr);
+  EXPECT_LT((joined->center_px - marker).norm(), 0.15);
+  EXPECT_EQ(joined->quality, 0.0);
+  EXPECT_NE(Nearest(found, Eigen::Vector2d(600.2, 300.4)), nullptr);
+  EXPECT_EQ(found.size(), 2u);
+
+  MarkerDetector band_only(options);
+  EXPECT_TRUE(band_only.Detect(band).empty());
+
+  DetectorOptions whole_blobs = options;
+  whole_blobs.split_joined = false;
+  MarkerDetector unsplit(whole_blobs);
+  EXPECT_EQ(Nearest(unsplit.Detect(image), marker), nullptr);
+}
+
+}  // namespace
+}  // namespace tumbletrace

@@ -2,6 +2,7 @@
 
 #include <gtest/gtest.h>
 
+#include <limits>
 #include <random>
 
 #include "support/scenarios.hpp"
@@ -76,6 +77,27 @@ TEST(Identify, GlintTracksStayUnidentified) {
   for (const TrackPoint& p : points) {
     if (p.track == 99) EXPECT_FALSE(p.marker.has_value());
   }
+}
+
+// A glint seen in every frame (a highlight that follows the body) is among the longest-lived
+// tracks of the anchor frame, so the anchor takes it in place of a marker: no assignment of
+// them all fits. Each anchor track is then left out in turn, and the glint stays out.
+TEST(Identify, AGlintAmongTheAnchorTracksIsLeftOut) {
+  const Scenario s = testing::PlanarSpinScenario(0.2, 7);
+  const Simulation sim = SimulateFlight(s);
+  std::map<int, int> truth;
+  std::vector<TrackPoint> points = Anonymous(sim, &truth);
+  int first = std::numeric_limits<int>::max(), last = 0;
+  for (const TrackPoint& p : points) {
+    first = std::min(first, p.frame);
+    last = std::max(last, p.frame);
+  }
+  for (int f = first - 5; f <= last + 5; ++f) {
+    points.push_back({f, f / 1000.0, 99, std::nullopt, 150.0 + 0.3 * f, 650.0 - 0.2 * f, 0.5});
+  }
+  const IdentifyReport report = IdentifyTracks(&points, s.body, s.camera);
+  ASSERT_EQ(report.unidentified_tracks, std::vector<int>{99});
+  EXPECT_EQ(report.marker_of_track, truth);
 }
 
 TEST(Identify, RefusesASymmetricLayoutNamingTheMarkers) {
