@@ -13,9 +13,6 @@ BackgroundRadiusChoice ChooseBackgroundRadius(const cv::Mat& image, const Detect
   choice.radius_px = options.background_radius_px;
   DetectorOptions sizing = options;
   sizing.background_radius_px = std::max(sizing_radius_px, options.background_radius_px);
-  // The sizing pass measures what stands free: parts of the body cut out of its silhouette
-  // by the wide filter would pass for large markers.
-  sizing.split_joined = false;
   MarkerDetector detector(sizing);
   std::vector<double> diameters;
   for (const Detection& d : detector.Detect(image)) {

@@ -519,57 +519,16 @@ void MarkerDetector::DetectIn(const cv::Mat& image, const cv::Rect& core, const 
   for (const cv::Point& seed : work_.seeds) {
     if (mask.at<std::uint8_t>(seed) == 0) continue;  // taken with an earlier seed's blob
     TakeComponent(seed, &mask, &blob);
-    if (!MeasureBlob(roi, residue, core, work, threshold, blob, out) && options_.split_joined) {
-      MeasureCores(roi, residue, core, work, threshold, blob, out);
-    }
+    MeasureBlob(roi, residue, core, work, threshold, blob, out);
   }
 }
 
-// A marker joined above the threshold to a band (the lit edge of a cylindrical handle or of
-// a box, a highlight along the body) makes one long blob, refused. Opening its pixels with a
-// disc of radius about 0.45 x the background filter's radius (the filter is 0.65 x a
-// marker's diameter, so 0.35 x a marker's: 3 px for markers of 8-9 px across) removes the
-// bands narrower than the disc and keeps the discs wider than it; each part left is measured
-// as a blob of its own, with every check a blob passes (prominence, shape, outline), so a
-// band's wider stretch is refused again. Only refused blobs are opened: a marker standing
-// free is measured whole, as before. What is found so has quality 0: it keeps its track
-// going and lets identification see the marker, but the fit leaves it out.
-void MarkerDetector::MeasureCores(const cv::Mat& roi, const cv::Mat& residue, const cv::Rect& core,
-                                  const cv::Rect& work, double threshold,
-                                  const std::vector<cv::Point>& blob, std::vector<Detection>* out) {
-  const int radius = std::max(2, static_cast<int>(std::lround(0.45 * options_.background_radius_px)));
-  if (static_cast<double>(blob.size()) < std::numbers::pi * radius * radius) return;
-  cv::Rect box = cv::boundingRect(blob);
-  box.x -= radius + 1;
-  box.y -= radius + 1;
-  box.width += 2 * radius + 2;
-  box.height += 2 * radius + 2;
-  cv::Mat pixels = cv::Mat::zeros(box.size(), CV_8U);
-  for (const cv::Point& p : blob) pixels.at<std::uint8_t>(p - box.tl()) = 255;
-  const cv::Mat disc =
-      cv::getStructuringElement(cv::MORPH_ELLIPSE, cv::Size(2 * radius + 1, 2 * radius + 1));
-  cv::Mat opened;
-  cv::morphologyEx(pixels, opened, cv::MORPH_OPEN, disc);
-  std::vector<cv::Point> seeds;
-  NonZeroPixels(opened, &seeds);
-  std::vector<cv::Point>& part = work_.core_blob;
-  for (const cv::Point& seed : seeds) {
-    if (opened.at<std::uint8_t>(seed) == 0) continue;
-    TakeComponent(seed, &opened, &part);
-    for (cv::Point& p : part) p += box.tl();
-    if (part.size() == blob.size()) continue;  // nothing was cut off: the blob itself
-    MeasureBlob(roi, residue, core, work, threshold, part, out, true);
-  }
-}
-
-bool MarkerDetector::MeasureBlob(const cv::Mat& roi, const cv::Mat& residue, const cv::Rect& core,
+void MarkerDetector::MeasureBlob(const cv::Mat& roi, const cv::Mat& residue, const cv::Rect& core,
                                  const cv::Rect& work, double threshold,
-                                 const std::vector<cv::Point>& blob, std::vector<Detection>* out,
-                                 bool cut_from_band) {
+                                 const std::vector<cv::Point>& blob, std::vector<Detection>* out) {
   const bool dark = options_.dark_dots;
   const double area = static_cast<double>(blob.size());
-  if (area < options_.min_area_px) return true;
-  if (area > options_.max_area_px) return false;
+  if (area < options_.min_area_px || area > options_.max_area_px) return;
   int left = blob[0].x, right = left, top = blob[0].y, bottom = top;
   for (const cv::Point& p : blob) {
     left = std::min(left, p.x);
@@ -579,7 +538,7 @@ bool MarkerDetector::MeasureBlob(const cv::Mat& roi, const cv::Mat& residue, con
   }
   // A blob cut by the edge of the examined area (the frame's edge, or a region's margin)
   // would have a biased centre.
-  if (left == 0 || top == 0 || right == work.width - 1 || bottom == work.height - 1) return true;
+  if (left == 0 || top == 0 || right == work.width - 1 || bottom == work.height - 1) return;
 
   // Around the blob, over its box grown by kRingPx (clipped to the work area): 2 marks the
   // blob grown by one pixel (3 x 3 dilation), which takes in the anti-aliased rim; 1 the
@@ -628,7 +587,7 @@ bool MarkerDetector::MeasureBlob(const cv::Mat& roi, const cv::Mat& residue, con
   // A dot rises above everything around it. The corner of a silhouette (which the
   // opening also cuts off) does not: its pixels are at the level of the body beside it.
   const double prominence = dark ? ring_extreme - blob_extreme : blob_extreme - ring_extreme;
-  if (prominence <= threshold) return true;
+  if (prominence <= threshold) return;
 
   // Thresholded centre of gravity: weights w = max(0, R - p) with the pedestal
   // p = kPedestalOfPeak x peak, the centroid sum(w (x, y)) / sum(w) and second moments over
@@ -662,7 +621,7 @@ bool MarkerDetector::MeasureBlob(const cv::Mat& roi, const cv::Mat& residue, con
   // the region's.
   if (center_px.x() < core.x - 0.5 || center_px.x() >= core.x + core.width - 0.5 ||
       center_px.y() < core.y - 0.5 || center_px.y() >= core.y + core.height - 0.5) {
-    return true;
+    return;
   }
   // Principal variances of the weighted second central moments (eigenvalues of the 2 x 2
   // covariance) and elongation = sqrt(largest / smallest), the ratio of the principal
@@ -677,7 +636,7 @@ bool MarkerDetector::MeasureBlob(const cv::Mat& roi, const cv::Mat& residue, con
   const double elongation = largest <= 0.0  ? 1.0
                             : smallest > 0.0 ? std::sqrt(largest / smallest)
                                              : std::numeric_limits<double>::infinity();
-  if (elongation > options_.max_elongation) return false;
+  if (elongation > options_.max_elongation) return;
 
   Detection d;
   d.center_px = center_px;
@@ -720,14 +679,9 @@ bool MarkerDetector::MeasureBlob(const cv::Mat& roi, const cv::Mat& residue, con
                         detect_internal::Symmetry(Eigen::Vector2d(x0 + mx, y0 + my), marks) < kLopsidedSymmetry;
   if (options_.centre == CentreMethod::kOutline && (round_weighted || round_pixels || lopsided)) {
     const Detection centroid = d;
-    // A core cut from a band has no outline where the band joined it: it may have 0.1 less
-    // of it.
-    DetectorOptions fit_options = options_;
-    if (cut_from_band) fit_options.min_completeness -= 0.1;
-    const bool fitted = FitBlobOutline(residue, marks, Eigen::Vector2d(x0 + mx, y0 + my), threshold,
-                                       fit_options, &work_.gradient_x, &work_.gradient_y, &d);
-    if (!fitted) {
-      if (round_weighted) return true;
+    if (!FitBlobOutline(residue, marks, Eigen::Vector2d(x0 + mx, y0 + my), threshold, options_,
+                        &work_.gradient_x, &work_.gradient_y, &d)) {
+      if (round_weighted) return;
       // A blob tried for its pixels' size or shape alone keeps its centroid when its outline
       // is not complete enough: a small dot swollen by the codec's ringing (whose centroid is
       // good), or, lopsided or lit from one side, the rest of a marker mostly hidden or a
@@ -742,16 +696,10 @@ bool MarkerDetector::MeasureBlob(const cv::Mat& roi, const cv::Mat& residue, con
     d.center_px += Eigen::Vector2d(work.x, work.y);
     if (d.center_px.x() < core.x - 0.5 || d.center_px.x() >= core.x + core.width - 0.5 ||
         d.center_px.y() < core.y - 0.5 || d.center_px.y() >= core.y + core.height - 0.5) {
-      return true;
+      return;
     }
   }
-  // A core cut from a band serves the tracker and identification only (quality 0, which the
-  // fit leaves out): where the band joined it, its outline is the band's as much as its
-  // own, and on the imaging study's clips such centres bent the fitted path (a window cut
-  // 69 frames short on one wobble).
-  if (cut_from_band) d.quality = 0.0;
   out->push_back(d);
-  return true;
 }
 
 cv::Mat DetectionBackground(const cv::Mat& image, int radius_px, bool dark_dots) {

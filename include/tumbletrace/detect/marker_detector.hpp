@@ -86,8 +86,6 @@ struct DetectorOptions {
                                       // exposure's mean position
   double min_completeness = 0.6;      // fitted blobs less complete than this are dropped
   double incomplete_bias_of_radius = 0.25;  // sigma_px grows by this x (1 - completeness) x r
-  bool split_joined = true;           // look for markers inside blobs refused as too long or
-                                      // too large (joined to a band; MeasureCores)
 
   std::string Validate() const;       // empty when valid
 };
@@ -111,18 +109,10 @@ class MarkerDetector {
   void DetectIn(const cv::Mat& image, const cv::Rect& core, const cv::Rect& work,
                 double threshold, std::vector<Detection>* out);
   // Measures one blob (pixel coordinates of `work`) and adds its detection to `out` when
-  // it is accepted. Returns false when the blob was refused as too large or too elongated
-  // (a marker joined to a band, such as the lit edge of the body, may be inside).
-  // `cut_from_band`: a core of a refused blob (MeasureCores), whose outline is not seen
-  // where the band joined it.
-  bool MeasureBlob(const cv::Mat& roi, const cv::Mat& residue, const cv::Rect& core,
+  // it is accepted.
+  void MeasureBlob(const cv::Mat& roi, const cv::Mat& residue, const cv::Rect& core,
                    const cv::Rect& work, double threshold, const std::vector<cv::Point>& blob,
-                   std::vector<Detection>* out, bool cut_from_band = false);
-  // The disc-shaped cores of a refused blob: its pixels opened (erosion, then dilation) by
-  // a disc narrower than a marker, each connected part of what is left measured as a blob.
-  void MeasureCores(const cv::Mat& roi, const cv::Mat& residue, const cv::Rect& core,
-                    const cv::Rect& work, double threshold, const std::vector<cv::Point>& blob,
-                    std::vector<Detection>* out);
+                   std::vector<Detection>* out);
 
   DetectorOptions options_;
   double noise_sigma_ = -1.0;
@@ -141,7 +131,6 @@ class MarkerDetector {
     std::vector<unsigned char> filter_rows;
     std::vector<cv::Point> seeds;
     std::vector<cv::Point> blob;
-    std::vector<cv::Point> core_blob;
     std::vector<unsigned char> near_blob;
     std::vector<float> noise_samples;
     cv::Mat gradient_x;  // the residue's gradient around a blob (outline fit)
