@@ -522,7 +522,8 @@ double Bic(double sum_sq, int n_residuals, int parameters) {
 }
 
 // The automatic choice among the rotation models (FitOptions::rotation = kAuto):
-// 1. the constant spin and the free top are fitted (robust pass, outliers set aside);
+// 1. the constant spin and the free top are fitted (robust pass, outliers set aside), the
+//    free top from the poses and from the steady spin, the better per sighting kept;
 // 2. on the free top's inliers (the richest model fits every kind of throw) the constant
 //    spin is fitted again, and both are scored by BIC = n ln(RSS/n) + k ln n;
 // 3. the symmetric top lies between them (RSS_free <= RSS_symmetric <= RSS_spin), so its
@@ -531,7 +532,8 @@ double Bic(double sum_sq, int n_residuals, int parameters) {
 //    closest principal moments differ by more than 2 sqrt(2 ln n) of their standard
 //    deviation (the Wald statistic of "equal moments" then exceeds four times the BIC
 //    penalty of the two extra parameters); otherwise it is fitted and scored;
-// 4. the model with the lowest BIC wins.
+// 4. the model with the lowest BIC wins, a torque-free one only when its principal axes are
+//    determined (FitOptions::torque_free_needs_axes).
 ModelFit ChooseRotationModel(const FitContext& ctx, const std::vector<BodyPose>& poses,
                              const FlightParameters& initial, FitResult* result) {
   const std::vector<bool> all(ctx.sightings.size(), true);
@@ -541,8 +543,6 @@ ModelFit ChooseRotationModel(const FitContext& ctx, const std::vector<BodyPose>&
       FitModel(ctx, RotationModel::kFreeTop,
                InitialiseTorqueFree(poses, first_spin.parameters, RotationModel::kFreeTop, ctx.options),
                all, true, Precision::kComparison);
-  ModelFit spin = FitModel(ctx, RotationModel::kConstantSpin, first_spin.parameters, free.use,
-                           false, Precision::kComparison);
   // The free top contains the constant spin (a steady spin about a principal axis), and a
   // start from poorly determined poses (a layout of nearly collinear markers) can stop in
   // another valley: on one study wobble at 0.114 px rms with a CM component 20 sigma off,
@@ -557,12 +557,10 @@ ModelFit ChooseRotationModel(const FitContext& ctx, const std::vector<BodyPose>&
     const auto per_sighting = [](const ModelFit& f) {
       return f.sum_sq_px2 / std::max<double>(1.0, std::count(f.use.begin(), f.use.end(), true));
     };
-    if (per_sighting(again) < per_sighting(free)) {
-      free = again;
-      spin = FitModel(ctx, RotationModel::kConstantSpin, first_spin.parameters, free.use, false,
-                      Precision::kComparison);
-    }
+    if (per_sighting(again) < per_sighting(free)) free = again;
   }
+  const ModelFit spin = FitModel(ctx, RotationModel::kConstantSpin, first_spin.parameters, free.use,
+                                 false, Precision::kComparison);
   const int n = 2 * static_cast<int>(std::count(free.use.begin(), free.use.end(), true));
   std::vector<ModelFit> fits = {spin, free};
   std::string skipped;

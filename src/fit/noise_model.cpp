@@ -88,11 +88,11 @@ double Median(std::vector<double> v) {
   return *mid;
 }
 
-// Sum of J_s^T over a series' rows: g_s = J_s^T 1.
-Eigen::VectorXd ColumnSums(const SeriesNoise& s, const Eigen::MatrixXd& jacobian) {
-  Eigen::VectorXd g = Eigen::VectorXd::Zero(jacobian.cols());
-  for (int a : s.rows) g += jacobian.row(a).transpose();
-  return g;
+// J_s: the rows of `jacobian` of one series, in frame order.
+Eigen::MatrixXd SeriesRows(const SeriesNoise& s, const Eigen::MatrixXd& jacobian) {
+  Eigen::MatrixXd rows(s.rows.size(), jacobian.cols());
+  for (size_t k = 0; k < s.rows.size(); ++k) rows.row(k) = jacobian.row(s.rows[k]);
+  return rows;
 }
 
 // The variance of a constant offset per series, by the method of moments on the series'
@@ -105,9 +105,13 @@ double OffsetVariance(const NoiseModel& model, const Eigen::VectorXd& residuals_
   const size_t n = model.series.size();
   if (n < 2) return 0.0;
   const Eigen::Index p = jacobian.cols();
-  Eigen::MatrixXd g(p, n), h(p, n);
-  for (size_t k = 0; k < n; ++k) g.col(k) = ColumnSums(model.series[k], jacobian);
-  h = information_pinv * g;
+  std::vector<Eigen::MatrixXd> rows_of(n);
+  Eigen::MatrixXd g(p, n);  // g_s = J_s^T 1
+  for (size_t k = 0; k < n; ++k) {
+    rows_of[k] = SeriesRows(model.series[k], jacobian);
+    g.col(k) = rows_of[k].colwise().sum().transpose();
+  }
+  const Eigen::MatrixXd h = information_pinv * g;
   const Eigen::MatrixXd meat = Ar1Meat(jacobian, model);
   const Eigen::MatrixXd cross = g.transpose() * h;  // g_s'^T h_s at (s', s)
   double observed = 0.0, expected_ar = 0.0, per_offset = 0.0;
@@ -116,11 +120,9 @@ double OffsetVariance(const NoiseModel& model, const Eigen::VectorXd& residuals_
     double sum_r = 0.0;
     for (int a : s.rows) sum_r += residuals_px[a];
     observed += sum_r * sum_r;
-    Eigen::MatrixXd rows(s.rows.size(), p);
-    for (size_t t = 0; t < s.rows.size(); ++t) rows.row(t) = jacobian.row(s.rows[t]);
     const Eigen::VectorXd omega_one =
         Ar1CovarianceTimes(Eigen::MatrixXd::Ones(s.rows.size(), 1), s.frames, s.variance_px2, s.rho);
-    expected_ar += omega_one.sum() - 2.0 * (rows.transpose() * omega_one).dot(h.col(k)) +
+    expected_ar += omega_one.sum() - 2.0 * (rows_of[k].transpose() * omega_one).dot(h.col(k)) +
                    h.col(k).dot(meat * h.col(k));
     for (size_t m = 0; m < n; ++m) {
       const double u = (m == k ? static_cast<double>(s.rows.size()) : 0.0) - cross(m, k);
@@ -213,8 +215,7 @@ Eigen::MatrixXd Ar1Meat(const Eigen::MatrixXd& jacobian, const NoiseModel& model
   const Eigen::Index p = jacobian.cols();
   Eigen::MatrixXd meat = Eigen::MatrixXd::Zero(p, p);
   for (const SeriesNoise& s : model.series) {
-    Eigen::MatrixXd rows(s.rows.size(), p);
-    for (size_t k = 0; k < s.rows.size(); ++k) rows.row(k) = jacobian.row(s.rows[k]);
+    const Eigen::MatrixXd rows = SeriesRows(s, jacobian);
     meat += rows.transpose() * Ar1CovarianceTimes(rows, s.frames, s.variance_px2, s.rho);
     if (model.offset_variance_px2 > 0) {
       const Eigen::VectorXd g = rows.colwise().sum().transpose();

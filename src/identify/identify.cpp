@@ -216,8 +216,8 @@ AnchorResult AssignAnchor(const std::map<int, Pixels>& tracks,
     return found;
   };
   std::vector<Candidate> candidates = assignments(anchor_tracks);
-  // No assignment of them all: one of the anchor tracks may be no marker (a glint, a
-  // highlight on the body, a marker's core cut from the body's lit edge at the wrong place).
+  // No assignment of them all: one of the anchor tracks may be no marker (a glint or a
+  // highlight that follows the body, seen in every frame and so among the longest-lived).
   // Each is left out in turn (5 or more tracks, so that 4 remain); the set whose best pose
   // fits best is taken.
   if (candidates.empty() && anchor_tracks.size() >= 5) {

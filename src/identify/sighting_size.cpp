@@ -7,7 +7,7 @@
 namespace tumbletrace {
 
 SightingSizeReport MarkOffSizeSightings(std::vector<TrackPoint>* points, const Body& body,
-                                           const SightingSizeOptions& options) {
+                                        const SightingSizeOptions& options) {
   SightingSizeReport report;
   // The points of each camera's frame.
   std::map<std::pair<int, int>, std::vector<TrackPoint*>> frames;

@@ -34,8 +34,8 @@ struct CameraTracking {
   int detections = 0;
   int background_radius_px = 0;  // the detector's background filter (given, or chosen from
                                  // the markers' size in the first frame)
-  int off_size = 0;            // identified sightings smaller or larger than their marker's image in
-                               // that frame, set to quality 0 (identify/sighting_size.hpp)
+  int off_size = 0;  // identified sightings smaller or larger than their marker's image in
+                     // that frame, set to quality 0 (identify/sighting_size.hpp)
 };
 
 struct TrackingResult {
