@@ -132,13 +132,18 @@ double ScoreAssignment(const std::map<int, int>& marker_of_track, const std::map
 }
 
 
-// Steps 1-3 of identification on a set of tracks: the anchor frame, every injective
-// assignment of its tracks to the markers in `ids` scored over verification frames, and
-// the ambiguity test. `why` says what failed when `marker_of_track` is empty.
-struct AnchorResult {
+// One assignment of the anchor tracks to markers and its score (median per-frame rms over
+// the verification frames, px).
+struct Candidate {
   std::map<int, int> marker_of_track;
-  double best_rms_px = 0.0;
-  double runner_up_rms_px = 0.0;
+  double score = 0.0;
+};
+
+// Steps 1-2 of identification on a set of tracks: the anchor frame and every injective
+// assignment of its tracks to the markers in `ids`, scored over verification frames, best
+// first. `why` says what failed when `candidates` is empty.
+struct AnchorResult {
+  std::vector<Candidate> candidates;
   std::string why;
 };
 
@@ -187,7 +192,7 @@ AnchorResult AssignAnchor(const std::map<int, Pixels>& tracks,
   }
 
   // 2. Every injective assignment of the anchor tracks to markers.
-  struct Candidate {
+  struct Assignment {
     std::vector<int> markers;
     double score;
   };
@@ -195,7 +200,7 @@ AnchorResult AssignAnchor(const std::map<int, Pixels>& tracks,
     std::vector<Eigen::Vector2d> anchor_px;
     for (int t : anchor) anchor_px.push_back(tracks.at(t).at(anchor_frame));
     const int k = static_cast<int>(anchor.size());
-    std::vector<Candidate> found;
+    std::vector<Assignment> found;
     std::vector<int> chosen(k);
     std::vector<bool> used(n_markers, false);
     std::function<void(int)> enumerate = [&](int depth) {
@@ -203,6 +208,15 @@ AnchorResult AssignAnchor(const std::map<int, Pixels>& tracks,
         const PoseFit fit = solver.Solve(chosen, anchor_px);
         if (fit.ok && fit.rms_px <= options.accept_rms_px) found.push_back({chosen, fit.rms_px});
         return;
+      }
+      // A partial assignment of 4 or more tracks whose own best pose leaves more squared
+      // error than the whole may have (k x accept^2) cannot be completed: its subtree is
+      // skipped (9 markers and 7 tracks are 181440 assignments).
+      if (depth >= 4) {
+        const std::vector<int> part(chosen.begin(), chosen.begin() + depth);
+        const std::vector<Eigen::Vector2d> part_px(anchor_px.begin(), anchor_px.begin() + depth);
+        const PoseFit fit = solver.Solve(part, part_px);
+        if (fit.ok && fit.rms_px * fit.rms_px * depth > k * options.accept_rms_px * options.accept_rms_px) return;
       }
       for (int m = 0; m < n_markers; ++m) {
         if (used[m]) continue;
@@ -215,7 +229,7 @@ AnchorResult AssignAnchor(const std::map<int, Pixels>& tracks,
     enumerate(0);
     return found;
   };
-  std::vector<Candidate> candidates = assignments(anchor_tracks);
+  std::vector<Assignment> candidates = assignments(anchor_tracks);
   // No assignment of them all: one of the anchor tracks may be no marker (a glint or a
   // highlight that follows the body, seen in every frame and so among the longest-lived).
   // Each is left out in turn (5 or more tracks, so that 4 remain); the set whose best pose
@@ -226,8 +240,8 @@ AnchorResult AssignAnchor(const std::map<int, Pixels>& tracks,
     for (size_t drop = 0; drop < anchor_tracks.size(); ++drop) {
       std::vector<int> subset = anchor_tracks;
       subset.erase(subset.begin() + static_cast<std::ptrdiff_t>(drop));
-      std::vector<Candidate> found = assignments(subset);
-      for (const Candidate& c : found) {
+      std::vector<Assignment> found = assignments(subset);
+      for (const Assignment& c : found) {
         if (c.score < best_rms) {
           best_rms = c.score;
           best_tracks = subset;
@@ -246,44 +260,18 @@ AnchorResult AssignAnchor(const std::map<int, Pixels>& tracks,
         k, anchor_frame, n_markers, options.accept_rms_px);
     return out;
   }
-  for (Candidate& c : candidates) {
-    std::map<int, int> m;
-    for (int i = 0; i < k; ++i) m[anchor_tracks[i]] = c.markers[i];
-    c.score = ScoreAssignment(m, tracks, verification, solver);
+  for (const Assignment& a : candidates) {
+    Candidate c;
+    for (int i = 0; i < k; ++i) c.marker_of_track[anchor_tracks[i]] = a.markers[i];
+    c.score = ScoreAssignment(c.marker_of_track, tracks, verification, solver);
+    if (std::isfinite(c.score)) out.candidates.push_back(std::move(c));
   }
-  std::sort(candidates.begin(), candidates.end(),
+  std::sort(out.candidates.begin(), out.candidates.end(),
             [](const Candidate& a, const Candidate& b) { return a.score < b.score; });
-  const Candidate& best = candidates.front();
-  if (!std::isfinite(best.score)) {
+  if (out.candidates.empty()) {
     out.why = "no assignment of tracks to markers holds over the frames: the tracks do not "
               "move like one rigid body with the body file's layout";
-    return out;
   }
-  out.best_rms_px = best.score;
-
-  // 3. Ambiguity: a different assignment nearly as good.
-  if (candidates.size() > 1 && std::isfinite(candidates[1].score)) {
-    const Candidate& second = candidates[1];
-    out.runner_up_rms_px = second.score;
-    if (second.score < 3.0 * best.score + 0.5) {
-      std::vector<std::string> swaps;
-      for (int i = 0; i < k; ++i) {
-        if (best.markers[i] != second.markers[i]) {
-          swaps.push_back(fmt::format("{} or {}", best.markers[i], second.markers[i]));
-        }
-      }
-      std::string list;
-      for (size_t i = 0; i < swaps.size(); ++i) list += (i ? "; " : "") + swaps[i];
-      out.why = fmt::format(
-          "the marker layout is ambiguous in these views: two assignments of tracks to markers "
-          "fit equally well ({:.2f} px and {:.2f} px rms), so these markers cannot be told "
-          "apart: {}. Make the layout asymmetric (move or add a marker so that no rotation "
-          "maps the layout onto itself) and film again",
-          best.score, second.score, list);
-      return out;
-    }
-  }
-  for (int i = 0; i < k; ++i) out.marker_of_track[anchor_tracks[i]] = best.markers[i];
   return out;
 }
 
@@ -341,6 +329,127 @@ void GrowLabels(const std::map<int, Pixels>& tracks,
 
 }
 
+// The per-frame pose rms of a labelling over the given frames (frames where fewer than
+// `min_markers` of its tracks are present are skipped), px.
+std::vector<double> FrameRms(const std::map<int, int>& marker_of_track, const std::map<int, Pixels>& tracks,
+                             const std::map<int, std::vector<int>>& tracks_in_frame,
+                             const std::vector<int>& frames, const PoseSolver& solver, int min_markers) {
+  std::vector<double> rms;
+  for (int frame : frames) {
+    std::vector<int> ids;
+    std::vector<Eigen::Vector2d> px;
+    for (int t : tracks_in_frame.at(frame)) {
+      const auto it = marker_of_track.find(t);
+      if (it == marker_of_track.end()) continue;
+      ids.push_back(it->second);
+      px.push_back(tracks.at(t).at(frame));
+    }
+    if (static_cast<int>(ids.size()) < min_markers) continue;
+    const PoseFit fit = solver.Solve(ids, px);
+    rms.push_back(fit.ok ? fit.rms_px : std::numeric_limits<double>::infinity());
+  }
+  return rms;
+}
+
+double Median(std::vector<double> v) {
+  if (v.empty()) return std::numeric_limits<double>::infinity();
+  std::nth_element(v.begin(), v.begin() + v.size() / 2, v.end());
+  return v[v.size() / 2];
+}
+
+// Step 3, the choice among the anchor's assignments. Every assignment that scores nearly
+// as well as the best on the verification frames (within 3 x best + 0.5 px) is grown to
+// the other tracks (step 4), and the grown labellings are compared on the frames where
+// they differ: with all their markers, a wrong assignment that four anchor tracks allowed
+// shows, and a marker seen in few frames is judged where it is seen. The layout is
+// ambiguous when a different labelling fits those frames within 1.5 x the best's rms +
+// 0.02 px (a variance ratio of 2.25, over the tens of frames where they differ: far
+// beyond chance when the two differ by more than the noise, and both carry the same
+// centre biases there); the markers that swap are named. Returns the chosen labelling (with `start`'s labels), or
+// an empty map with `why`.
+std::map<int, int> ChooseLabelling(const AnchorResult& anchor, const std::map<int, int>& start,
+                                   const std::map<int, Pixels>& tracks,
+                                   const std::map<int, std::vector<int>>& tracks_in_frame,
+                                   const std::vector<int>& ids, const PoseSolver& solver,
+                                   const IdentifyOptions& options, double* best_rms, double* runner_up_rms,
+                                   std::string* why) {
+  const double band = 3.0 * anchor.candidates.front().score + 0.5;
+  std::vector<std::map<int, int>> grown;
+  std::vector<double> full;
+  std::vector<int> all_frames;
+  for (const auto& [frame, present] : tracks_in_frame) all_frames.push_back(frame);
+  // Every frame counts, thinned to at most 120 for speed.
+  const auto thin = [](const std::vector<int>& frames) {
+    if (frames.size() <= 120) return frames;
+    std::vector<int> out;
+    for (int i = 0; i < 120; ++i) out.push_back(frames[(i * (frames.size() - 1)) / 119]);
+    return out;
+  };
+  for (const Candidate& c : anchor.candidates) {
+    if (c.score > band || grown.size() >= 4) break;
+    IdentifyReport report;
+    report.marker_of_track = start;
+    for (const auto& [track, marker] : c.marker_of_track) report.marker_of_track[track] = marker;
+    GrowLabels(tracks, tracks_in_frame, ids, solver, options, &report);
+    full.push_back(Median(FrameRms(report.marker_of_track, tracks, tracks_in_frame, thin(all_frames), solver,
+                                   options.min_markers)));
+    grown.push_back(std::move(report.marker_of_track));
+  }
+  const size_t winner = std::min_element(full.begin(), full.end()) - full.begin();
+  if (!std::isfinite(full[winner])) {
+    *why = "no assignment of tracks to markers holds over the frames: the tracks do not move "
+           "like one rigid body with the body file's layout";
+    return {};
+  }
+  *best_rms = anchor.candidates[winner].score;
+  *runner_up_rms = 0.0;
+  for (size_t j = 0; j < grown.size(); ++j) {
+    if (j == winner || grown[j] == grown[winner]) continue;
+    // The frames where the two labellings differ on a track present there.
+    std::vector<int> differ;
+    for (const auto& [frame, present] : tracks_in_frame) {
+      for (int t : present) {
+        const auto a = grown[winner].find(t), b = grown[j].find(t);
+        const int ma = a == grown[winner].end() ? -1 : a->second;
+        const int mb = b == grown[j].end() ? -1 : b->second;
+        if (ma != mb) {
+          differ.push_back(frame);
+          break;
+        }
+      }
+    }
+    const std::vector<double> rms_w =
+        FrameRms(grown[winner], tracks, tracks_in_frame, thin(differ), solver, options.min_markers);
+    const std::vector<double> rms_j =
+        FrameRms(grown[j], tracks, tracks_in_frame, thin(differ), solver, options.min_markers);
+    if (rms_w.empty() && rms_j.empty()) continue;  // they never differ where a pose is seen
+    const double w = Median(rms_w), other = Median(rms_j);
+    if (*runner_up_rms == 0.0 || anchor.candidates[j].score < *runner_up_rms) {
+      *runner_up_rms = anchor.candidates[j].score;
+    }
+    if (other >= 1.5 * w + 0.02) continue;
+    std::vector<std::string> swaps;
+    for (const auto& [track, marker] : grown[winner]) {
+      const auto it = grown[j].find(track);
+      if (it != grown[j].end() && it->second != marker && anchor.candidates.front().marker_of_track.count(track)) {
+        swaps.push_back(fmt::format("{} or {}", marker, it->second));
+      }
+    }
+    std::sort(swaps.begin(), swaps.end());
+    swaps.erase(std::unique(swaps.begin(), swaps.end()), swaps.end());
+    std::string list;
+    for (size_t i = 0; i < swaps.size(); ++i) list += (i ? "; " : "") + swaps[i];
+    *why = fmt::format(
+        "the marker layout is ambiguous in these views: two assignments of tracks to markers "
+        "fit equally well ({:.2f} px and {:.2f} px rms where they differ), so these markers "
+        "cannot be told apart: {}. Make the layout asymmetric (move or add a marker so that "
+        "no rotation maps the layout onto itself) and film again",
+        w, other, list.empty() ? "see the tracks" : list);
+    return {};
+  }
+  return grown[winner];
+}
+
 }  // namespace
 
 IdentifyReport IdentifyTracks(std::vector<TrackPoint>* points, const Body& body,
@@ -362,11 +471,11 @@ IdentifyReport IdentifyTracks(std::vector<TrackPoint>* points, const Body& body,
   for (const Marker& m : body.markers) ids.push_back(m.id);
 
   const AnchorResult anchor = AssignAnchor(tracks, tracks_in_frame, ids, solver, options);
-  if (anchor.marker_of_track.empty()) throw DataError(anchor.why);
-  report.anchor_rms_px = anchor.best_rms_px;
-  report.runner_up_rms_px = anchor.runner_up_rms_px;
-  report.marker_of_track = anchor.marker_of_track;
-  GrowLabels(tracks, tracks_in_frame, ids, solver, options, &report);
+  if (anchor.candidates.empty()) throw DataError(anchor.why);
+  std::string why;
+  report.marker_of_track = ChooseLabelling(anchor, {}, tracks, tracks_in_frame, ids, solver, options,
+                                           &report.anchor_rms_px, &report.runner_up_rms_px, &why);
+  if (report.marker_of_track.empty()) throw DataError(why);
 
   // 5. Markers that turned away and came back (a tumble, the other face of the body) start
   // new tracks that may never share a frame with identified ones: the tracks still
@@ -382,17 +491,25 @@ IdentifyReport IdentifyTracks(std::vector<TrackPoint>* points, const Body& body,
     }
     if (rest.size() < 4) break;
     const AnchorResult again = AssignAnchor(rest, rest_in_frame, ids, solver, options);
-    if (again.marker_of_track.empty()) break;
+    if (again.candidates.empty()) break;
+    double rms = 0.0, runner_up = 0.0;
+    std::string ignored;
+    const std::map<int, int> labels = ChooseLabelling(again, report.marker_of_track, tracks, tracks_in_frame,
+                                                      ids, solver, options, &rms, &runner_up, &ignored);
+    if (labels.empty()) break;
+    std::map<int, int> fresh;
+    for (const auto& [track, marker] : labels) {
+      if (!report.marker_of_track.count(track)) fresh[track] = marker;
+    }
     bool clash = false;
-    for (const auto& [track, marker] : again.marker_of_track) {
+    for (const auto& [track, marker] : fresh) {
       for (const auto& [other, other_marker] : report.marker_of_track) {
         if (other_marker != marker) continue;
         for (const auto& [frame, px] : tracks.at(track)) clash |= tracks.at(other).count(frame) > 0;
       }
     }
-    if (clash) break;
-    for (const auto& [track, marker] : again.marker_of_track) report.marker_of_track[track] = marker;
-    GrowLabels(tracks, tracks_in_frame, ids, solver, options, &report);
+    if (clash || fresh.empty()) break;
+    for (const auto& [track, marker] : fresh) report.marker_of_track[track] = marker;
   }
 
   for (const auto& [track, pixels] : tracks) {

@@ -65,6 +65,26 @@ TEST(BackgroundRadiusTest, ChosenRadiusIsWiderThanTheDotsAndGivesTheirCentres) {
   EXPECT_TRUE(found.size() < centres.size() || CentreRmsPx(found, centres) > 0.05);
 }
 
+// A frame where the body's lit faces (two bright rectangles, 30 x 60 px, at 200 grey
+// levels) outnumber the markers seen (one dot of 8 px): the faces pass the wide sizing
+// filter as two blobs, but they are not marker-like, and the radius fits the dot.
+TEST(BackgroundRadiusTest, LitFacesOfTheBodyDoNotSetTheRadius) {
+  SceneInstant scene;
+  scene.silhouette_polygons_px.push_back({{200, 300}, {230, 300}, {230, 360}, {200, 360}});
+  scene.silhouette_polygons_px.push_back({{400, 300}, {430, 300}, {430, 360}, {400, 360}});
+  RenderedDot dot;
+  dot.center_px = Eigen::Vector2d(600.3, 500.6);
+  dot.shape_px2 = 16.0 * Eigen::Matrix2d::Identity();
+  scene.dots.push_back(dot);
+  RenderSettings settings;
+  settings.body_level = 200.0;
+  settings.noise_seed = 3;
+  const cv::Mat frame = RenderFrame({scene}, settings);
+  const BackgroundRadiusChoice choice = ChooseBackgroundRadius(frame, DetectorOptions{});
+  EXPECT_NEAR(choice.median_diameter_px, 8.0, 2.0);
+  EXPECT_LE(choice.radius_px, 7);
+}
+
 // A frame without dots keeps the options' radius.
 TEST(BackgroundRadiusTest, NoBlobsKeepsTheGivenRadius) {
   RenderSettings settings;

@@ -3,8 +3,10 @@
 #include <gtest/gtest.h>
 
 #include <limits>
+#include <set>
 #include <random>
 
+#include "support/realistic_throws.hpp"
 #include "support/scenarios.hpp"
 #include "tumbletrace/core/error.hpp"
 #include "tumbletrace/sim/simulate.hpp"
@@ -36,10 +38,6 @@ TEST(Identify, RecoversEveryMarkerFromTheLayout) {
     EXPECT_EQ(report.marker_of_track, truth);
     EXPECT_TRUE(report.unidentified_tracks.empty());
     EXPECT_LT(report.anchor_rms_px, 0.5);
-    // No other assignment survived, or it scored far worse.
-    if (report.runner_up_rms_px > 0) {
-      EXPECT_GT(report.runner_up_rms_px, 3.0 * report.anchor_rms_px + 0.5);
-    }
     for (const TrackPoint& p : points) ASSERT_EQ(p.marker, truth.at(p.track));
   }
 }
@@ -140,6 +138,67 @@ TEST(Identify, RefusesWhenNoFrameShowsFourTracks) {
     }
   }
   EXPECT_THROW(IdentifyTracks(&points, s.body, s.camera), DataError);
+}
+
+}  // namespace
+}  // namespace tumbletrace
+
+namespace tumbletrace {
+namespace {
+
+// Realistic throws' exact sightings (a marker less than 70 % visible drops out), each
+// marker's sightings cut into a new anonymous track after every gap, as a tracker leaves
+// them, plus 0.15 px noise. On these throws one marker is hidden in most of the anchor's
+// verification frames, or four anchor tracks admit a second assignment that the other
+// markers rule out: identification must still find the true labels (the throws the
+// earlier rule refused as ambiguous: 1010, 1011, 1014, 1016 of the imaging study).
+TEST(Identify, PartlyHiddenLayoutsAreToldApartByTheGrownLabels) {
+  for (const std::uint64_t seed : {1010u, 1011u, 1014u, 1016u}) {
+    Scenario s = testing::RealisticThrow(seed, testing::StudyThrowKind(static_cast<int>(seed - 1000)));
+    s.video.write = false;
+    const Simulation sim = SimulateFlight(s);
+    std::mt19937 rng(static_cast<unsigned>(seed));
+    std::normal_distribution<double> noise(0.0, 0.15);
+    std::map<int, int> last_frame_of_marker, track_of_marker, true_marker_of_track;
+    std::vector<TrackPoint> points;
+    int next_track = 100;
+    for (const FrameTruth& frame : sim.frames) {
+      for (const MarkerTruth& t : frame.markers) {
+        // A marker less than 70 % visible is refused by the detector's size check.
+        if (!t.visible || t.visible_fraction < 0.7) continue;
+        const auto last = last_frame_of_marker.find(t.id);
+        if (last == last_frame_of_marker.end() || frame.frame - last->second > 2) {
+          track_of_marker[t.id] = next_track++;
+          true_marker_of_track[track_of_marker[t.id]] = t.id;
+        }
+        last_frame_of_marker[t.id] = frame.frame;
+        TrackPoint p;
+        p.frame = frame.frame;
+        p.time_s = frame.time_s;
+        p.track = track_of_marker[t.id];
+        p.x_px = t.pixel.x() + noise(rng);
+        p.y_px = t.pixel.y() + noise(rng);
+        points.push_back(p);
+      }
+    }
+    const IdentifyReport report = IdentifyTracks(&points, s.body, s.camera);
+    int wrong = 0;
+    std::set<int> identified;
+    for (const auto& [track, marker] : report.marker_of_track) {
+      if (true_marker_of_track.at(track) == marker) {
+        identified.insert(marker);
+      } else {
+        ++wrong;
+      }
+    }
+    EXPECT_EQ(wrong, 0) << "seed " << seed;
+    // Every marker seen in a fifth of the frames or more is found.
+    std::map<int, int> frames_of_marker;
+    for (const TrackPoint& p : points) ++frames_of_marker[true_marker_of_track.at(p.track)];
+    for (const auto& [marker, frames] : frames_of_marker) {
+      if (frames >= s.frames / 5) EXPECT_TRUE(identified.count(marker)) << "seed " << seed << " marker " << marker;
+    }
+  }
 }
 
 }  // namespace

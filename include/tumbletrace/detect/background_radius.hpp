@@ -20,8 +20,11 @@ struct BackgroundRadiusChoice {
 // takes the markers' median equivalent diameter d: radius = ceil(0.65 d), so that a
 // marker up to 30 % larger than the median (nearer the camera, blurred) is still removed
 // from the background, and never below `options.background_radius_px` (the default for
-// small dots). The median, not the largest: a part of the body narrow enough to pass the
-// sizing filter is one blob among the markers. Without blobs, the options' radius stays.
+// small dots). The median, not the largest, and of the marker-like blobs (quality above
+// 0, elongation up to 1.5: round and whole) when there are any: a part of the body narrow
+// enough to pass the sizing filter, or a lit face of it, is one blob among the markers, and
+// in a frame where few markers are seen it would be the median. Without blobs, the
+// options' radius stays.
 BackgroundRadiusChoice ChooseBackgroundRadius(const cv::Mat& image, const DetectorOptions& options,
                                               int sizing_radius_px = 16);
 
