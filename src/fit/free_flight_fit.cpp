@@ -804,12 +804,41 @@ FitResult FitFreeFlight(const std::vector<FrameSightings>& frames, const Body& b
   }
 
   // The start needs poses from a few dozen frames per camera spread over the window, not
-  // all of them: PnP dominates the cost of the fit otherwise.
+  // all of them: PnP dominates the cost of the fit otherwise. They are taken among the
+  // frames that show enough markers for a pose (on a throw whose markers are often hidden
+  // or in shadow, a few in ten), not from every frame. A short window with fewer than
+  // kStartPoses such frames borrows the nearest ones outside it: they only start the fit,
+  // which then sees the window's sightings alone.
+  constexpr size_t kStartPoses = 6;
   std::vector<BodyPose> poses;
+  const int pose_markers = std::max(options.min_markers_per_frame, 4);
+  const auto posable = [&](const FrameSightings& f, int camera) {
+    if (f.camera != camera) return false;
+    int known = 0;
+    for (const MarkerSighting& s : f.sightings) known += body.FindMarker(s.marker_id) != nullptr;
+    return known >= pose_markers;
+  };
   for (size_t k = 0; k < cameras.size(); ++k) {
     std::vector<FrameSightings> of_camera;
     for (const FrameSightings& f : window) {
-      if (f.camera == static_cast<int>(k)) of_camera.push_back(f);
+      if (posable(f, static_cast<int>(k))) of_camera.push_back(f);
+    }
+    if (of_camera.size() < kStartPoses && !window.empty()) {
+      const double from_s = world_time(window.front()), to_s = world_time(window.back());
+      std::vector<std::pair<double, const FrameSightings*>> outside;  // (distance, frame)
+      for (const FrameSightings& f : frames) {
+        const double t = world_time(f);
+        if (t >= from_s && t <= to_s) continue;
+        if (posable(f, static_cast<int>(k))) outside.emplace_back(t < from_s ? from_s - t : t - to_s, &f);
+      }
+      std::stable_sort(outside.begin(), outside.end(),
+                       [](const auto& a, const auto& b) { return a.first < b.first; });
+      for (size_t i = 0; i < outside.size() && of_camera.size() < kStartPoses; ++i) {
+        of_camera.push_back(*outside[i].second);
+      }
+      std::stable_sort(of_camera.begin(), of_camera.end(), [&](const FrameSightings& a, const FrameSightings& b) {
+        return world_time(a) < world_time(b);
+      });
     }
     std::vector<FrameSightings> sampled;
     const size_t stride = std::max<size_t>(1, of_camera.size() / options.initial_pose_frames);

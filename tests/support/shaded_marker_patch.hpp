@@ -18,6 +18,7 @@
 #include <opencv2/core.hpp>
 #include <opencv2/imgcodecs.hpp>
 #include <opencv2/imgproc.hpp>
+#include <numbers>
 #include <random>
 #include <vector>
 
@@ -44,6 +45,12 @@ struct ShadedMarkerOptions {
   OccluderEdge occluder = OccluderEdge::kStraight;
   double occluder_azimuth_rad = 0.0;  // direction from the marker's centre towards the occluder
   double curved_radius_of_marker = 3.0;  // the curved occluder's radius, in marker radii
+  double band_levels = 0.0;           // a lit band of the body beside the marker (the lit edge
+                                      // of a handle), grey levels at its axis above the body;
+                                      // 0: none. Its profile across is a half cosine.
+  double band_width_px = 4.0;         // the band's full width
+  double band_offset_px = 6.0;        // its axis's distance from the marker's centre
+  double band_azimuth_rad = 0.0;      // direction from the marker's centre towards the band
   double blur_sigma_px = 0.5;         // the lens's Gaussian spread
   double noise_sigma_levels = 2.0;    // sensor noise
   int jpeg_quality = 0;               // 1..100: JPEG round trip; 0: none
@@ -121,7 +128,13 @@ inline cv::Mat RenderShadedMarker(const ShadedMarkerOptions& o) {
       double level = o.background_levels;
       const Eigen::Vector2d d = (p - o.center_px) / o.radius_px;
       const double rho2 = d.squaredNorm();
+      if (o.band_levels > 0.0) {
+        const Eigen::Vector2d across(std::cos(o.band_azimuth_rad), std::sin(o.band_azimuth_rad));
+        const double u = ((p - o.center_px).dot(across) - o.band_offset_px) / (0.5 * o.band_width_px);
+        if (std::abs(u) < 1.0) level += o.band_levels * std::cos(0.25 * std::numbers::pi * 2.0 * u);
+      }
       if (rho2 < 1.0) {
+        level = o.background_levels;  // the marker hides the band behind it
         const Eigen::Vector3d normal(d.x(), d.y(), std::sqrt(1.0 - rho2));
         level += o.marker_levels * detail::Shade(o, normal);
       }

@@ -86,6 +86,9 @@ struct DetectorOptions {
                                       // exposure's mean position
   double min_completeness = 0.6;      // fitted blobs less complete than this are dropped
   double incomplete_bias_of_radius = 0.25;  // sigma_px grows by this x (1 - completeness) x r
+  bool separate_from_bands = true;    // a refused blob is looked at again with the thin bands
+                                      // of the body (lit edges, highlights) taken into the
+                                      // background, which frees a marker joined to one
 
   std::string Validate() const;       // empty when valid
 };
@@ -109,14 +112,22 @@ class MarkerDetector {
   void DetectIn(const cv::Mat& image, const cv::Rect& core, const cv::Rect& work,
                 double threshold, std::vector<Detection>* out);
   // Measures one blob (pixel coordinates of `work`) and adds its detection to `out` when
-  // it is accepted.
-  void MeasureBlob(const cv::Mat& roi, const cv::Mat& residue, const cv::Rect& core,
+  // it is accepted. False when it is refused for what a marker joined to a band of the body
+  // would show (too long, too large, not rising above its surroundings, an incomplete
+  // outline); true when accepted or refused for another reason.
+  bool MeasureBlob(const cv::Mat& roi, const cv::Mat& residue, const cv::Rect& core,
                    const cv::Rect& work, double threshold, const std::vector<cv::Point>& blob,
                    std::vector<Detection>* out);
+  // Measures again the parts of a refused blob that rise above the body's thin bands
+  // (marker_detector.cpp). `residue` is changed around the blob and restored.
+  void SeparateFromBands(const cv::Mat& roi, cv::Mat* residue, const cv::Rect& core,
+                         const cv::Rect& work, double threshold, const std::vector<cv::Point>& blob,
+                         std::vector<Detection>* out);
 
   DetectorOptions options_;
   double noise_sigma_ = -1.0;
   std::vector<int> disc_half_width_px_;  // the background filter's disc, row by row
+  std::vector<cv::Mat> line_kernels_;    // segments of the disc's diameter (SeparateFromBands)
   // Work space kept across calls (full frames and regions use its top-left part), so that
   // a frame allocates no image-sized buffers. A copy of the detector starts with its own,
   // empty work space (cv::Mat copies would share the pixels).
