@@ -804,47 +804,56 @@ FitResult FitFreeFlight(const std::vector<FrameSightings>& frames, const Body& b
   }
 
   // The start needs poses from a few dozen frames per camera spread over the window, not
-  // all of them: PnP dominates the cost of the fit otherwise. They are taken among the
-  // frames that show enough markers for a pose (on a throw whose markers are often hidden
-  // or in shadow, a few in ten), not from every frame. A short window with fewer than
-  // kStartPoses such frames borrows the nearest ones outside it: they only start the fit,
-  // which then sees the window's sightings alone.
+  // all of them: PnP dominates the cost of the fit otherwise. When fewer than kStartPoses
+  // of the frames so spread show enough markers for a pose (on a throw whose markers are
+  // hidden or in shadow most of the time), the start takes every frame of the window that
+  // does, and, still short, borrows the nearest ones outside it: they only start the fit,
+  // which then sees the window's sightings alone. (Choosing among the posable frames
+  // always changed the start, and with it the rotation model chosen, of throws that had
+  // enough: kept for the short ones.)
   constexpr size_t kStartPoses = 6;
   std::vector<BodyPose> poses;
-  const int pose_markers = std::max(options.min_markers_per_frame, 4);
-  const auto posable = [&](const FrameSightings& f, int camera) {
-    if (f.camera != camera) return false;
-    int known = 0;
-    for (const MarkerSighting& s : f.sightings) known += body.FindMarker(s.marker_id) != nullptr;
-    return known >= pose_markers;
+  const auto posable = [&](const FrameSightings& f) {
+    return CanPoseFrame(f, body, options.min_markers_per_frame);
   };
-  for (size_t k = 0; k < cameras.size(); ++k) {
-    std::vector<FrameSightings> of_camera;
-    for (const FrameSightings& f : window) {
-      if (posable(f, static_cast<int>(k))) of_camera.push_back(f);
-    }
-    if (of_camera.size() < kStartPoses && !window.empty()) {
-      const double from_s = world_time(window.front()), to_s = world_time(window.back());
-      std::vector<std::pair<double, const FrameSightings*>> outside;  // (distance, frame)
-      for (const FrameSightings& f : frames) {
-        const double t = world_time(f);
-        if (t >= from_s && t <= to_s) continue;
-        if (posable(f, static_cast<int>(k))) outside.emplace_back(t < from_s ? from_s - t : t - to_s, &f);
-      }
-      std::stable_sort(outside.begin(), outside.end(),
-                       [](const auto& a, const auto& b) { return a.first < b.first; });
-      for (size_t i = 0; i < outside.size() && of_camera.size() < kStartPoses; ++i) {
-        of_camera.push_back(*outside[i].second);
-      }
-      std::stable_sort(of_camera.begin(), of_camera.end(), [&](const FrameSightings& a, const FrameSightings& b) {
-        return world_time(a) < world_time(b);
-      });
-    }
+  const auto spread = [&](const std::vector<FrameSightings>& of_camera) {
     std::vector<FrameSightings> sampled;
     const size_t stride = std::max<size_t>(1, of_camera.size() / options.initial_pose_frames);
     for (size_t i = 0; i < of_camera.size(); i += stride) {
       sampled.push_back(of_camera[i]);
       sampled.back().time_s = world_time(of_camera[i]);
+    }
+    return sampled;
+  };
+  for (size_t k = 0; k < cameras.size(); ++k) {
+    const int camera = static_cast<int>(k);
+    std::vector<FrameSightings> of_camera;
+    for (const FrameSightings& f : window) {
+      if (f.camera == camera) of_camera.push_back(f);
+    }
+    std::vector<FrameSightings> sampled = spread(of_camera);
+    if (static_cast<size_t>(std::count_if(sampled.begin(), sampled.end(), posable)) < kStartPoses) {
+      std::vector<FrameSightings> candidates;
+      for (const FrameSightings& f : of_camera) {
+        if (posable(f)) candidates.push_back(f);
+      }
+      if (candidates.size() < kStartPoses && !window.empty()) {
+        const double from_s = world_time(window.front()), to_s = world_time(window.back());
+        std::vector<std::pair<double, const FrameSightings*>> outside;  // (distance, frame)
+        for (const FrameSightings& f : frames) {
+          const double t = world_time(f);
+          if (f.camera != camera || (t >= from_s && t <= to_s) || !posable(f)) continue;
+          outside.emplace_back(t < from_s ? from_s - t : t - to_s, &f);
+        }
+        std::stable_sort(outside.begin(), outside.end(),
+                         [](const auto& a, const auto& b) { return a.first < b.first; });
+        for (size_t i = 0; i < outside.size() && candidates.size() < kStartPoses; ++i) {
+          candidates.push_back(*outside[i].second);
+        }
+        std::stable_sort(candidates.begin(), candidates.end(),
+                         [&](const FrameSightings& a, const FrameSightings& b) { return world_time(a) < world_time(b); });
+      }
+      sampled = spread(candidates);
     }
     for (BodyPose& pose : EstimateFramePoses(sampled, body, cameras[k],
                                              options.min_markers_per_frame)) {

@@ -68,6 +68,12 @@ PnpSolution SolvePnp(const std::vector<cv::Point3d>& object, const std::vector<c
 
 }  // namespace
 
+bool CanPoseFrame(const FrameSightings& frame, const Body& body, int min_markers) {
+  int known = 0;
+  for (const MarkerSighting& s : frame.sightings) known += body.FindMarker(s.marker_id) != nullptr;
+  return known >= std::max(min_markers, 4);
+}
+
 std::vector<BodyPose> EstimateFramePoses(const std::vector<FrameSightings>& frames,
                                          const Body& body, const Camera& camera,
                                          int min_markers) {
@@ -82,6 +88,7 @@ std::vector<BodyPose> EstimateFramePoses(const std::vector<FrameSightings>& fram
   };
   std::vector<Correspondences> usable;
   for (const FrameSightings& f : frames) {
+    if (!CanPoseFrame(f, body, min_markers)) continue;
     Correspondences c{&f, {}, {}};
     for (const MarkerSighting& s : f.sightings) {
       const Marker* m = body.FindMarker(s.marker_id);
@@ -89,7 +96,7 @@ std::vector<BodyPose> EstimateFramePoses(const std::vector<FrameSightings>& fram
       c.object.emplace_back(m->at_body_m.x(), m->at_body_m.y(), m->at_body_m.z());
       c.image.emplace_back(s.pixel.x(), s.pixel.y());
     }
-    if (static_cast<int>(c.object.size()) >= std::max(min_markers, 4)) usable.push_back(std::move(c));
+    usable.push_back(std::move(c));
   }
   // A forward pass seeded by the previous frame, then a backward pass seeded by the next,
   // so that the first frames also get a neighbour's help.

@@ -113,8 +113,8 @@ class MarkerDetector {
                 double threshold, std::vector<Detection>* out);
   // Measures one blob (pixel coordinates of `work`) and adds its detection to `out` when
   // it is accepted. False when it is refused for what a marker joined to a band of the body
-  // would show (too long, too large, not rising above its surroundings, an incomplete
-  // outline); true when accepted or refused for another reason.
+  // would show (too long, too large, cut by the examined area's edge, not rising above its
+  // surroundings, an incomplete outline); true when accepted or refused for another reason.
   bool MeasureBlob(const cv::Mat& roi, const cv::Mat& residue, const cv::Rect& core,
                    const cv::Rect& work, double threshold, const std::vector<cv::Point>& blob,
                    std::vector<Detection>* out);

@@ -24,6 +24,10 @@ struct BodyPose {
   double rms_px = 0.0;
 };
 
+// Whether `frame` names at least max(min_markers, 4) of the body's markers: enough for a
+// PnP pose (EstimateFramePoses skips the others).
+bool CanPoseFrame(const FrameSightings& frame, const Body& body, int min_markers);
+
 // Poses of the frames with at least `min_markers` sightings; others are skipped.
 std::vector<BodyPose> EstimateFramePoses(const std::vector<FrameSightings>& frames,
                                          const Body& body, const Camera& camera,
